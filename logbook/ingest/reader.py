@@ -1,0 +1,416 @@
+"""Read a capture file (CSV, TSV or Parquet) into named float64 columns.
+
+Text files are parsed in one fast pass by pandas' C parser. When that pass fails,
+or its row count does not match the file's lines, a second, line-by-line pass finds
+the first fault and reports it with the file, the 1-based physical line and the
+column, so the fast path never has to keep track of where it is.
+
+Accepted text layout, top to bottom:
+
+* an optional UTF-8 byte-order mark;
+* any number of lines starting with ``#``: ``# key: value`` lines become
+  :attr:`RawTable.metadata` (keys lower-cased), other ``#`` lines are comments;
+  blank lines are allowed among them;
+* exactly one header row (names may be quoted and carry a unit in brackets);
+* data rows, every cell a number (``nan``/``NaN`` is read as a missing value);
+  blank lines are allowed only at the end of the file.
+
+Delimiters ``,``, ``;`` and tab are sniffed when not given; the decimal mark is
+``.`` or ``,`` (a decimal comma needs a ``;`` or tab delimiter).
+"""
+
+from __future__ import annotations
+
+import csv
+import os
+import re
+import warnings
+from dataclasses import dataclass
+from pathlib import Path
+
+import numpy as np
+import pandas as pd
+
+from logbook.errors import InputError
+
+DELIMITERS = (",", ";", "\t")
+DECIMAL_MARKS = (".", ",")
+#: Values whose magnitude exceeds this are rejected as absurd (a corrupt cell or a
+#: unit mix-up); no bench quantity in seconds, mm, deg, V or counts comes near it.
+MAX_ABS_VALUE = 1e12
+#: Data lines after the header used to sniff the delimiter and decimal mark.
+SNIFF_LINES = 50
+
+_METADATA = re.compile(r"^#\s*([A-Za-z_][\w .-]*?)\s*:\s*(.*?)\s*$")
+_BOM = b"\xef\xbb\xbf"
+_NAN_TEXT = ("nan", "NaN")
+_DELIMITER_NAMES = {",": "','", ";": "';'", "\t": "tab"}
+
+
+@dataclass(frozen=True)
+class RawTable:
+    """The columns of one file as read, before any role or unit is applied."""
+
+    path: str  # as given
+    columns: dict[str, np.ndarray]  # header name -> float64 values, file order
+    metadata: dict[str, str]  # from leading "# key: value" lines (keys lower-cased)
+    first_data_line: int  # 1-based physical line of the first data row
+
+    def __len__(self) -> int:
+        return len(next(iter(self.columns.values()))) if self.columns else 0
+
+    @property
+    def header_line(self) -> int | None:
+        """Physical line of the header row, or None for files without one (Parquet)."""
+        return self.first_data_line - 1 if self.first_data_line > 1 else None
+
+    def line_of(self, row: int) -> int:
+        """The physical line of 0-based data row ``row`` (the row number for Parquet)."""
+        return self.first_data_line + row
+
+
+def read_table(
+    path: str | os.PathLike[str],
+    *,
+    delimiter: str | None = None,
+    decimal: str | None = None,
+    max_abs: float = MAX_ABS_VALUE,
+) -> RawTable:
+    """Read a CSV, TSV or Parquet file; every fault is an InputError naming file,
+    line and column.
+
+    delimiter: ``","``, ``";"`` or ``"\\t"``; sniffed from the header and the first
+        data lines when None.
+    decimal: ``"."`` or ``","``; sniffed when None (always ``"."`` with a comma
+        delimiter).
+    max_abs: finite values beyond this magnitude, and infinities, are rejected.
+    """
+    name = str(path)
+    if delimiter is not None and delimiter not in DELIMITERS:
+        raise InputError(f"delimiter {delimiter!r} is not one of ',', ';' or tab", file=name)
+    if decimal is not None and decimal not in DECIMAL_MARKS:
+        raise InputError(f"decimal mark {decimal!r} is not '.' or ','", file=name)
+    if delimiter == "," and decimal == ",":
+        raise InputError("a decimal comma needs a ';' or tab delimiter, not ','", file=name)
+    try:
+        if Path(name).suffix.lower() == ".parquet":
+            table = _read_parquet(name)
+        else:
+            table = _read_text(name, delimiter, decimal)
+    except OSError as exc:
+        raise InputError(f"cannot open the file: {exc.strerror or exc}", file=name) from exc
+    _check_magnitudes(table, max_abs)
+    return table
+
+
+# --- text files -------------------------------------------------------------------
+
+
+@dataclass(frozen=True)
+class _Layout:
+    """Where the data starts and how it is written."""
+
+    metadata: dict[str, str]
+    names: list[str]
+    header_line: int
+    data_offset: int  # byte offset of the first line after the header
+    delimiter: str
+    decimal: str
+
+
+def _read_text(path: str, delimiter: str | None, decimal: str | None) -> RawTable:
+    layout = _read_layout(path, delimiter, decimal)
+    first_data_line = layout.header_line + 1
+    try:
+        with open(path, "rb") as fh, warnings.catch_warnings():
+            # pandas only warns when every row is wider than the header: make it fail
+            warnings.simplefilter("error", pd.errors.ParserWarning)
+            fh.seek(layout.data_offset)
+            frame = pd.read_csv(
+                fh,
+                sep=layout.delimiter,
+                decimal=layout.decimal,
+                header=None,
+                names=layout.names,
+                dtype=np.float64,
+                engine="c",
+                encoding="utf-8",
+                keep_default_na=False,
+                na_values=list(_NAN_TEXT),
+                skip_blank_lines=True,
+                skipinitialspace=True,
+                index_col=False,
+            )
+    except pd.errors.EmptyDataError:
+        raise InputError("no data rows after the header", file=path, line=first_data_line) from None
+    except (ValueError, UnicodeDecodeError, pd.errors.ParserWarning) as exc:
+        _diagnose(path, layout)
+        raise InputError(f"cannot be read as a table of numbers ({exc})", file=path) from exc
+    if len(frame) == 0:
+        raise InputError("no data rows after the header", file=path, line=first_data_line)
+    if len(frame) != _count_data_lines(path, layout.data_offset):
+        _diagnose(path, layout)
+        raise InputError("the rows read do not match the lines of the file", file=path)
+    columns = {n: frame[n].to_numpy(dtype=np.float64) for n in layout.names}
+    return RawTable(path, columns, layout.metadata, first_data_line)
+
+
+def _read_layout(path: str, delimiter: str | None, decimal: str | None) -> _Layout:
+    """Read metadata and the header row, and settle delimiter and decimal mark."""
+    metadata: dict[str, str] = {}
+    metadata_lines: dict[str, int] = {}
+    with open(path, "rb") as fh:
+        line_no = 0
+        header: str | None = None
+        while header is None:
+            raw = fh.readline()
+            if not raw:
+                break
+            line_no += 1
+            text = _decode(
+                raw[len(_BOM) :] if line_no == 1 and raw.startswith(_BOM) else raw, path, line_no
+            ).strip()
+            if not text:
+                continue
+            if text.startswith("#"):
+                match = _METADATA.match(text)
+                if match:
+                    key = match.group(1).strip().lower()
+                    if key in metadata:
+                        raise InputError(
+                            f"metadata key '{key}' is given twice (first on line "
+                            f"{metadata_lines[key]})",
+                            file=path,
+                            line=line_no,
+                        )
+                    metadata[key] = match.group(2)
+                    metadata_lines[key] = line_no
+                continue
+            header = text
+        if header is None:
+            reason = "empty file" if line_no == 0 else "no header row (only comments or blanks)"
+            raise InputError(reason, file=path, line=line_no or None)
+        data_offset = fh.tell()
+        sample = []
+        for _ in range(SNIFF_LINES):
+            raw = fh.readline()
+            if not raw:
+                break
+            sample.append(_decode(raw, path, line_no + len(sample) + 1).strip())
+    header_line = line_no
+    chosen = delimiter or _sniff_delimiter(header, sample)
+    names = _split(header, chosen)
+    if len(names) < 2:
+        if delimiter is None:
+            reason = "only one column found: no ',', ';' or tab separates the header"
+        else:
+            others = [d for d in DELIMITERS if d != delimiter and len(_split(header, d)) > 1]
+            hint = f"; the header splits on {_DELIMITER_NAMES[others[0]]}" if others else ""
+            reason = (
+                f"only one column found with delimiter {_DELIMITER_NAMES[delimiter]}"
+                f"{hint} (wrong delimiter?)"
+            )
+        raise InputError(reason, file=path, line=header_line)
+    _check_names(names, path, header_line)
+    if all(_NUMBER["."].fullmatch(n) or _NUMBER[","].fullmatch(n) for n in names):
+        raise InputError(
+            "missing header row: this line holds numbers, not column names",
+            file=path,
+            line=header_line,
+        )
+    if decimal is None:
+        decimal = "." if chosen == "," else _sniff_decimal(sample, chosen, names, path, header_line)
+    elif decimal == chosen:
+        raise InputError(f"the decimal mark {decimal!r} is also the delimiter", file=path)
+    return _Layout(metadata, names, header_line, data_offset, chosen, decimal)
+
+
+def _decode(raw: bytes, path: str, line_no: int) -> str:
+    if b"\x00" in raw:
+        raise InputError("binary data (NUL bytes), not a text table", file=path, line=line_no)
+    try:
+        return raw.decode("utf-8")
+    except UnicodeDecodeError:
+        raise InputError(
+            "not UTF-8 text (binary data, or another encoding: save the file as UTF-8)",
+            file=path,
+            line=line_no,
+        ) from None
+
+
+def _split(line: str, delimiter: str) -> list[str]:
+    """Fields of one line, quotes removed and surrounding spaces stripped."""
+    return [field.strip() for field in next(csv.reader([line], delimiter=delimiter))]
+
+
+def _sniff_delimiter(header: str, sample: list[str]) -> str:
+    """The first of tab, ';', ',' that splits the header into the same number (>1) of
+    fields as every sampled data line; else the one splitting the header most."""
+    for candidate in ("\t", ";", ","):
+        width = len(_split(header, candidate))
+        if width > 1 and all(len(_split(s, candidate)) == width for s in sample if s):
+            return candidate
+    return max(("\t", ";", ","), key=lambda d: len(_split(header, d)))
+
+
+def _number_pattern(decimal: str) -> re.Pattern[str]:
+    mark = re.escape(decimal)
+    return re.compile(
+        rf"[+-]?(?:\d+(?:{mark}\d*)?|{mark}\d+)(?:[eE][+-]?\d+)?|[+-]?(?i:inf(?:inity)?)|nan|NaN"
+    )
+
+
+_NUMBER = {mark: _number_pattern(mark) for mark in DECIMAL_MARKS}
+_FRACTION = {mark: re.compile(rf"[+-]?\d*{re.escape(mark)}\d") for mark in DECIMAL_MARKS}
+
+
+def _sniff_decimal(
+    sample: list[str], delimiter: str, names: list[str], path: str, header_line: int
+) -> str:
+    """',' when sampled cells use a decimal comma, '.' otherwise; both is an error."""
+    seen: dict[str, tuple[int, str]] = {}
+    for line_no, line in enumerate(sample, start=header_line + 1):
+        for name, cell in zip(names, _split(line, delimiter) if line else [], strict=False):
+            for mark in DECIMAL_MARKS:
+                if _FRACTION[mark].match(cell) and _NUMBER[mark].fullmatch(cell):
+                    seen.setdefault(mark, (line_no, name))
+    if len(seen) == 2:
+        line_no, name = max(seen.values())
+        raise InputError(
+            "mixed decimal marks: both '.' and ',' are used", file=path, line=line_no, column=name
+        )
+    return next(iter(seen), ".")
+
+
+def _check_names(names: list[str], path: str, line: int | None) -> None:
+    """Header names must be non-empty and unique."""
+    seen: set[str] = set()
+    for position, name in enumerate(names, start=1):
+        if not name:
+            raise InputError(
+                f"the header name in position {position} is empty",
+                file=path,
+                line=line,
+                column=f"#{position}",
+            )
+        if name in seen:
+            raise InputError("duplicate header name", file=path, line=line, column=name)
+        seen.add(name)
+
+
+def _count_data_lines(path: str, offset: int, *, chunk: int = 1 << 20) -> int:
+    """Physical lines from ``offset`` to the end, trailing blank lines not counted."""
+    newlines = 0
+    tail = b""
+    with open(path, "rb") as fh:
+        fh.seek(offset)
+        while block := fh.read(chunk):
+            newlines += block.count(b"\n")
+            tail = (tail + block)[-chunk:]
+    body = tail.rstrip(b" \t\r\n")
+    if not body and len(tail) < chunk:
+        return 0
+    return newlines - tail[len(body) :].count(b"\n") + 1
+
+
+def _diagnose(path: str, layout: _Layout) -> None:
+    """Walk the data lines and raise an InputError for the first fault found."""
+    width = len(layout.names)
+    number = _NUMBER[layout.decimal]
+    other_mark = "," if layout.decimal == "." else "."
+    blank_line: int | None = None
+    with open(path, "rb") as fh:
+        fh.seek(layout.data_offset)
+        for line_no, raw in enumerate(fh, start=layout.header_line + 1):
+            text = _decode(raw, path, line_no).strip()
+            if not text:
+                blank_line = blank_line or line_no
+                continue
+            if blank_line is not None:
+                raise InputError("blank line inside the data", file=path, line=blank_line)
+            fields = _split(text, layout.delimiter)
+            if len(fields) < width:
+                raise InputError(
+                    f"truncated row: {len(fields)} of {width} fields",
+                    file=path,
+                    line=line_no,
+                    column=layout.names[len(fields)],
+                )
+            if len(fields) > width:
+                hint = (
+                    " (a decimal comma in a comma-separated file?)"
+                    if (layout.delimiter == ",")
+                    else ""
+                )
+                raise InputError(
+                    f"too many fields: {len(fields)}, the header has {width}{hint}",
+                    file=path,
+                    line=line_no,
+                )
+            for name, cell in zip(layout.names, fields, strict=True):
+                if not cell:
+                    raise InputError("empty cell", file=path, line=line_no, column=name)
+                if number.fullmatch(cell):
+                    continue
+                if _NUMBER[other_mark].fullmatch(cell):
+                    raise InputError(
+                        f"mixed decimal marks: {cell!r} uses {other_mark!r} but the file "
+                        f"uses {layout.decimal!r}",
+                        file=path,
+                        line=line_no,
+                        column=name,
+                    )
+                shown = cell if len(cell) <= 20 else cell[:20] + "..."
+                raise InputError(
+                    f"text {shown!r} in a numeric column", file=path, line=line_no, column=name
+                )
+
+
+# --- Parquet -----------------------------------------------------------------------
+
+
+def _read_parquet(path: str) -> RawTable:
+    """Numeric Parquet columns as float64; nulls become NaN. Lines are row numbers."""
+    import pyarrow as pa
+    import pyarrow.parquet as pq
+
+    try:
+        table = pq.read_table(path)
+    except (pa.ArrowException, ValueError) as exc:
+        raise InputError(f"not a readable Parquet file ({exc})", file=path) from exc
+    if table.num_columns == 0 or table.num_rows == 0:
+        raise InputError("the Parquet file holds no data", file=path)
+    names = [str(n).strip() for n in table.column_names]
+    _check_names(names, path, line=None)
+    columns: dict[str, np.ndarray] = {}
+    for name, column in zip(names, table.columns, strict=True):
+        kind = column.type
+        if not (
+            pa.types.is_integer(kind) or pa.types.is_floating(kind) or pa.types.is_boolean(kind)
+        ):
+            raise InputError(f"column holds {kind}, not numbers", file=path, column=name)
+        columns[name] = column.cast(pa.float64()).to_numpy(zero_copy_only=False)
+    metadata = {
+        key.decode("utf-8", "replace").lower(): value.decode("utf-8", "replace")
+        for key, value in (table.schema.metadata or {}).items()
+        if not key.startswith((b"pandas", b"ARROW:"))
+    }
+    return RawTable(path, columns, metadata, first_data_line=1)
+
+
+# --- checks shared by both formats ------------------------------------------------------
+
+
+def _check_magnitudes(table: RawTable, max_abs: float) -> None:
+    """Reject infinities and values beyond ``max_abs`` (NaN is left to the caller)."""
+    for name, values in table.columns.items():
+        with np.errstate(invalid="ignore"):
+            bad = np.abs(values) > max_abs
+        if bad.any():
+            row = int(np.argmax(bad))
+            raise InputError(
+                f"absurd value {float(values[row])!r} (magnitude above {max_abs:g})",
+                file=table.path,
+                line=table.line_of(row),
+                column=name,
+            )
