@@ -132,7 +132,7 @@ def trace_from_table(
         raise InputError(
             f"time unit '{time_unit}' is not one of s, ms, us", file=table.path, column=time_name
         )
-    seconds = table.columns[time_name] * TIME_UNITS[time_unit]
+    seconds = to_seconds(table.columns[time_name], time_unit)
     check_increasing(table, time_name, seconds)
     channels = [Channel(time_name, Role.TIME, "s", seconds)]
     channels += [
@@ -141,6 +141,12 @@ def trace_from_table(
         if role is not Role.TIME
     ]
     return Trace(tuple(channels))
+
+
+def to_seconds(values: np.ndarray, unit: str) -> np.ndarray:
+    """``values`` in ``unit`` (one of :data:`TIME_UNITS`) as seconds; no copy for s."""
+    factor = TIME_UNITS[unit]
+    return values if factor == 1.0 else values * factor
 
 
 def _resolve(table: RawTable, given: str | None, role: Role, *, required: bool) -> str | None:
