@@ -1,0 +1,5 @@
+"""``python -m logbook`` runs the command line."""
+
+from logbook.cli import main
+
+main()

@@ -1,0 +1,113 @@
+"""The root command group, shared options and the error-to-exit-code policy."""
+
+from __future__ import annotations
+
+import json
+import sys
+from collections.abc import Callable, Iterable
+from datetime import UTC, date, datetime
+from typing import Any
+
+import click
+from sqlalchemy.exc import OperationalError
+
+from logbook import __version__
+from logbook.errors import LogbookError
+from logbook.store.config import mask_text
+from logbook.store.engine import Database
+from logbook.store.migrate import require_current
+
+
+class LogbookGroup(click.Group):
+    """A group that turns every user error into one clear line and exit code 1."""
+
+    def invoke(self, ctx: click.Context) -> Any:
+        try:
+            return super().invoke(ctx)
+        except LogbookError as exc:
+            raise click.ClickException(str(exc)) from None
+        except OperationalError as exc:
+            first = str(exc.orig or exc).strip().splitlines()[0]
+            raise click.ClickException(f"database error: {mask_text(first)}") from None
+
+
+@click.group(cls=LogbookGroup, context_settings={"help_option_names": ["-h", "--help"]})
+@click.version_option(__version__, prog_name="logbook")
+def main() -> None:
+    """Bench-test logbook for motion-control axes.
+
+    Example: logbook init && logbook axis add x-stage --unit mm --feedback encoder
+    """
+
+
+def db_option(func: Callable[..., Any]) -> Callable[..., Any]:
+    """``--db URL-or-path``; falls back to $LOGBOOK_DB, then ./logbook.db."""
+    return click.option(
+        "--db",
+        "db",
+        default=None,
+        metavar="URL-OR-PATH",
+        help="Database URL or SQLite file path (default: $LOGBOOK_DB, else ./logbook.db).",
+    )(func)
+
+
+def json_option(func: Callable[..., Any]) -> Callable[..., Any]:
+    """``--json``: print machine-readable output instead of a table."""
+    return click.option("--json", "as_json", is_flag=True, help="Print JSON for scripts.")(func)
+
+
+def print_json(payload: object) -> None:
+    """Print ``payload`` as JSON; dates as ISO 8601, other objects through ``str``."""
+    click.echo(json.dumps(payload, default=_json_default, ensure_ascii=False))
+
+
+def _json_default(value: object) -> object:
+    if isinstance(value, datetime | date):
+        return value.isoformat()
+    return str(value)
+
+
+def print_table(rows: Iterable[dict[str, object]], columns: list[str]) -> None:
+    """Print rows as a plain aligned text table; an empty list prints '(none)'."""
+    rows = list(rows)
+    if not rows:
+        click.echo("(none)")
+        return
+    cells = [[_cell(row.get(c)) for c in columns] for row in rows]
+    widths = [max(len(c), *(len(r[i]) for r in cells)) for i, c in enumerate(columns)]
+    click.echo("  ".join(c.ljust(w) for c, w in zip(columns, widths, strict=True)).rstrip())
+    for r in cells:
+        click.echo("  ".join(v.ljust(w) for v, w in zip(r, widths, strict=True)).rstrip())
+
+
+def _cell(value: object) -> str:
+    if value is None:
+        return "-"
+    if isinstance(value, float):
+        return f"{value:.6g}"
+    return str(value)
+
+
+def fail(message: str) -> None:
+    """Leave with a one-line user error (exit code 1)."""
+    click.echo(f"Error: {message}", err=True)
+    sys.exit(1)
+
+
+def open_logbook(db: str | None, *, check_schema: bool = True) -> Database:
+    """Open the chosen database; unless told otherwise insist it is current."""
+    database = Database.open(db)
+    if check_schema:
+        require_current(database)
+    return database
+
+
+def parse_when(text: str, field_name: str) -> datetime:
+    """An ISO 8601 date or date-time; without a zone it is taken as UTC."""
+    try:
+        value = datetime.fromisoformat(text)
+    except ValueError:
+        raise click.BadParameter(
+            f"{text!r} is not an ISO 8601 date", param_hint=field_name
+        ) from None
+    return value if value.tzinfo else value.replace(tzinfo=UTC)

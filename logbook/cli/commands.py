@@ -1,0 +1,17 @@
+"""Which commands the ``logbook`` group offers; one line per command module."""
+
+from __future__ import annotations
+
+import click
+
+
+def register_commands(group: click.Group) -> None:
+    """Attach every command to ``group``."""
+    from logbook.cli import catalog, database
+
+    group.add_command(database.init_command)
+    group.add_command(database.db_group)
+    group.add_command(catalog.axis_group)
+    group.add_command(catalog.rev_group)
+    group.add_command(catalog.gains_group)
+    group.add_command(catalog.runs_group)

@@ -1,0 +1,194 @@
+"""Writing and reading a test run with its trace, original file and figures.
+
+A run is written in the caller's transaction, so a failure anywhere leaves
+nothing behind (the importer opens one write session per file).
+"""
+
+from __future__ import annotations
+
+import hashlib
+from dataclasses import dataclass, field
+from datetime import datetime
+from typing import TYPE_CHECKING
+
+from sqlalchemy import select
+from sqlalchemy.orm import Session
+
+from logbook.analysis.catalog import METRICS, resolve_unit
+from logbook.analysis.settings import AnalysisSettings
+from logbook.store.blobs import (
+    RAW_CODEC,
+    SAMPLES_FORMAT,
+    compress_raw,
+    decode_samples,
+    decompress_raw,
+    encode_samples,
+)
+from logbook.store.models import (
+    AnalysisResult,
+    AnalysisSettingsRow,
+    Axis,
+    GainSet,
+    HardwareRevision,
+    TestRun,
+    TraceChannel,
+)
+from logbook.store.models import Trace as TraceRow
+from logbook.trace import Role, Trace
+
+if TYPE_CHECKING:
+    from logbook.analysis.results import TraceAnalysis
+
+
+@dataclass(frozen=True)
+class RunConditions:
+    """Who took a run, when, and under which bench conditions (all optional but time)."""
+
+    taken_at: datetime
+    operator: str = ""
+    supply_voltage_v: float | None = None
+    load_value: float | None = None
+    load_unit: str | None = None
+    temperature_c: float | None = None
+    notes: str = ""
+
+
+@dataclass(frozen=True)
+class RunEvidence:
+    """The source file as it arrived and the trace decoded from it."""
+
+    source_name: str
+    raw_bytes: bytes
+    trace: Trace
+    profile_name: str | None = None
+    data_quality: dict[str, float] = field(default_factory=dict)
+
+    @property
+    def sha256(self) -> str:
+        return hashlib.sha256(self.raw_bytes).hexdigest()
+
+
+def find_run_by_hash(session: Session, axis: Axis, sha256: str) -> TestRun | None:
+    """The run of ``axis`` imported from a file with this SHA-256, if any."""
+    return session.scalar(
+        select(TestRun).where(TestRun.axis_id == axis.id, TestRun.source_sha256 == sha256)
+    )
+
+
+def add_run(
+    session: Session,
+    *,
+    axis: Axis,
+    revision: HardwareRevision,
+    gain_set: GainSet,
+    test_kind: str,
+    conditions: RunConditions,
+    evidence: RunEvidence,
+) -> TestRun:
+    """Insert a run, its trace blob, channel roles and compressed original file."""
+    run = TestRun(
+        axis_id=axis.id,
+        revision_id=revision.id,
+        gain_set_id=gain_set.id,
+        test_kind=test_kind,
+        taken_at=conditions.taken_at,
+        operator=conditions.operator,
+        supply_voltage_v=conditions.supply_voltage_v,
+        load_value=conditions.load_value,
+        load_unit=conditions.load_unit,
+        temperature_c=conditions.temperature_c,
+        notes=conditions.notes,
+        source_name=evidence.source_name,
+        source_sha256=evidence.sha256,
+        profile_name=evidence.profile_name,
+        data_quality={**evidence.trace.quality, **evidence.data_quality},
+    )
+    session.add(run)
+    session.flush()
+    trace = evidence.trace
+    session.add(
+        TraceRow(
+            run_id=run.id,
+            sample_count=len(trace),
+            samples_format=SAMPLES_FORMAT,
+            samples=encode_samples(trace),
+            raw_codec=RAW_CODEC,
+            raw_size=len(evidence.raw_bytes),
+            raw_bytes=compress_raw(evidence.raw_bytes),
+            channels=[
+                TraceChannel(position=i, name=c.name, role=c.role.value, unit=c.unit)
+                for i, c in enumerate(trace.channels)
+            ],
+        )
+    )
+    session.flush()
+    return run
+
+
+def load_trace(session: Session, run: TestRun) -> Trace:
+    """The run's decoded samples (reads the blob only now)."""
+    row = session.get(TraceRow, run.id)
+    if row is None:
+        raise LookupError(f"run {run.id} has no trace")
+    meta = [(c.name, c.role, c.unit) for c in row.channels]
+    return decode_samples(row.samples, meta, run.data_quality)
+
+
+def load_raw_file(session: Session, run: TestRun) -> bytes:
+    """The original file's bytes, exactly as imported."""
+    row = session.get(TraceRow, run.id)
+    if row is None:
+        raise LookupError(f"run {run.id} has no trace")
+    return decompress_raw(row.raw_bytes)
+
+
+def settings_row(session: Session, settings: AnalysisSettings) -> AnalysisSettingsRow:
+    """The stored row for ``settings`` (with the analysis version), created once."""
+    digest = settings.content_hash()
+    row = session.scalar(
+        select(AnalysisSettingsRow).where(AnalysisSettingsRow.content_hash == digest)
+    )
+    if row is None:
+        row = AnalysisSettingsRow(
+            content_hash=digest,
+            analysis_version=str(settings.to_dict()["analysis_version"]),
+            rise_low=settings.rise_low,
+            rise_high=settings.rise_high,
+            band=settings.band,
+            level_estimator=settings.level_estimator,
+            settings=settings.to_dict(),
+        )
+        session.add(row)
+        session.flush()
+    return row
+
+
+def save_analysis(session: Session, run: TestRun, analysis: TraceAnalysis) -> int:
+    """Add the figures of ``analysis`` to ``run``; returns the number of rows added.
+
+    Results under other settings are kept; results under the same settings and
+    analysis version already stored for this run are an error (they never change).
+    """
+    settings = settings_row(session, analysis.settings)
+    feedback = session.scalar(
+        select(TraceChannel.unit).where(
+            TraceChannel.run_id == run.id, TraceChannel.role == Role.FEEDBACK.value
+        )
+    )
+    feedback_unit = feedback or ""
+    rows = [
+        AnalysisResult(
+            run_id=run.id,
+            settings_id=settings.id,
+            step_index=step.index,
+            metric=name,
+            value=figure.value,
+            unit=resolve_unit(METRICS[name].unit, feedback_unit) if name in METRICS else "",
+            reason=figure.reason,
+        )
+        for step in analysis.steps
+        for name, figure in step.figures.items()
+    ]
+    session.add_all(rows)
+    session.flush()
+    return len(rows)

@@ -1,0 +1,1 @@
+"""Alembic environment of the logbook (installed as ``logbook.migrations``)."""

@@ -1,0 +1,55 @@
+"""Packaging: the migrations are found from a checkout and from an installed wheel."""
+
+from __future__ import annotations
+
+import subprocess
+import sys
+import tomllib
+from pathlib import Path
+
+import pytest
+
+from logbook.store.migrate import migrations_dir
+
+ROOT = Path(__file__).resolve().parents[1]
+
+
+def test_migrations_found_from_the_checkout() -> None:
+    assert (migrations_dir() / "env.py").is_file()
+    assert any((migrations_dir() / "versions").glob("0001_*.py"))
+
+
+def test_every_package_is_listed_in_pyproject() -> None:
+    listed = set(tomllib.loads((ROOT / "pyproject.toml").read_text())["tool"]["setuptools"]["packages"])
+    found = {
+        ".".join(p.parent.relative_to(ROOT).parts) for p in (ROOT / "logbook").rglob("__init__.py")
+    }
+    assert found <= listed, f"add to [tool.setuptools] packages: {sorted(found - listed)}"
+
+
+@pytest.mark.slow
+def test_installed_wheel_creates_a_database(tmp_path: Path) -> None:
+    wheel_dir = tmp_path / "wheel"
+    subprocess.run(
+        [sys.executable, "-m", "pip", "wheel", "--no-deps", "--no-build-isolation", "-q", "-w",
+         str(wheel_dir), str(ROOT)],
+        check=True,
+    )
+    wheel = next(wheel_dir.glob("*.whl"))
+    venv = tmp_path / "venv"
+    subprocess.run([sys.executable, "-m", "venv", "--system-site-packages", str(venv)], check=True)
+    python = venv / "bin" / "python"
+    subprocess.run([str(python), "-m", "pip", "install", "--no-deps", "-q", str(wheel)], check=True)
+    elsewhere = tmp_path / "elsewhere"
+    elsewhere.mkdir()
+    where = subprocess.run(
+        [str(python), "-c", "import logbook.store.migrate as m; print(m.migrations_dir())"],
+        cwd=elsewhere, capture_output=True, text=True, check=True,
+    ).stdout.strip()
+    assert str(venv) in where, f"migrations came from {where}, not the installed wheel"
+    result = subprocess.run(
+        [str(venv / "bin" / "logbook"), "init", "--db", "wheel.db"],
+        cwd=elsewhere, capture_output=True, text=True, check=False,
+    )
+    assert result.returncode == 0, result.stderr
+    assert "schema 0001" in result.stdout
