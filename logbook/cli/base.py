@@ -12,6 +12,7 @@ import click
 from sqlalchemy.exc import OperationalError
 
 from logbook import __version__
+from logbook.analysis.settings import AnalysisSettings
 from logbook.errors import LogbookError
 from logbook.store.config import mask_text
 from logbook.store.engine import Database
@@ -111,3 +112,24 @@ def parse_when(text: str, field_name: str) -> datetime:
             f"{text!r} is not an ISO 8601 date", param_hint=field_name
         ) from None
     return value if value.tzinfo else value.replace(tzinfo=UTC)
+
+
+def parse_rise(text: str) -> tuple[float, float]:
+    """``10-90`` (percent) -> (0.10, 0.90)."""
+    try:
+        low, high = (float(part) / 100.0 for part in text.split("-", 1))
+    except ValueError:
+        raise click.BadParameter(f"{text!r} is not LOW-HIGH in percent, e.g. 10-90") from None
+    return low, high
+
+
+def analysis_settings(band: float | None, rise: str | None) -> AnalysisSettings:
+    """Settings from ``--band PCT`` and ``--rise LOW-HIGH``, defaults otherwise."""
+    defaults = AnalysisSettings()
+    low, high = parse_rise(rise) if rise else (defaults.rise_low, defaults.rise_high)
+    try:
+        return AnalysisSettings(
+            rise_low=low, rise_high=high, band=band / 100.0 if band is not None else defaults.band
+        )
+    except ValueError as exc:
+        raise click.BadParameter(str(exc)) from None

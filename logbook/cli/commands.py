@@ -7,7 +7,7 @@ import click
 
 def register_commands(group: click.Group) -> None:
     """Attach every command to ``group``."""
-    from logbook.cli import catalog, database
+    from logbook.cli import analyze, catalog, database, importing
 
     group.add_command(database.init_command)
     group.add_command(database.db_group)
@@ -15,3 +15,6 @@ def register_commands(group: click.Group) -> None:
     group.add_command(catalog.rev_group)
     group.add_command(catalog.gains_group)
     group.add_command(catalog.runs_group)
+    group.add_command(importing.import_command)
+    group.add_command(importing.profile_group)
+    group.add_command(analyze.analyze_command)

@@ -29,13 +29,50 @@ def invoke(*args: str) -> Result:
 
 
 def test_readme_walkthrough(db: str) -> None:
-    assert invoke("axis", "add", "x-stage", "--unit", "mm", "--feedback", "encoder", "--db", db).exit_code == 0
-    assert invoke("rev", "add", "A", "--axis", "x-stage", "--date", "2026-10-01", "--db", db).exit_code == 0
-    result = invoke("rev", "add", "B", "--axis", "x-stage", "--parent", "A", "--category", "mechanical",
-                    "--summary", "stiffer coupling", "--db", db)
+    assert (
+        invoke(
+            "axis", "add", "x-stage", "--unit", "mm", "--feedback", "encoder", "--db", db
+        ).exit_code
+        == 0
+    )
+    assert (
+        invoke("rev", "add", "A", "--axis", "x-stage", "--date", "2026-10-01", "--db", db).exit_code
+        == 0
+    )
+    result = invoke(
+        "rev",
+        "add",
+        "B",
+        "--axis",
+        "x-stage",
+        "--parent",
+        "A",
+        "--category",
+        "mechanical",
+        "--summary",
+        "stiffer coupling",
+        "--db",
+        db,
+    )
     assert result.exit_code == 0 and "derived from 'A'" in result.output
-    assert invoke("gains", "add", "base", "--kp", "2", "--ki", "10", "--kd", "0.01", "--loop-rate", "1000",
-                  "--db", db).exit_code == 0
+    assert (
+        invoke(
+            "gains",
+            "add",
+            "base",
+            "--kp",
+            "2",
+            "--ki",
+            "10",
+            "--kd",
+            "0.01",
+            "--loop-rate",
+            "1000",
+            "--db",
+            db,
+        ).exit_code
+        == 0
+    )
     revisions = json.loads(invoke("rev", "list", "--axis", "x-stage", "--json", "--db", db).output)
     assert [(r["label"], r["parent"]) for r in revisions] == [("A", None), ("B", "A")]
     assert revisions[0]["revision_date"] == "2026-10-01"
@@ -55,7 +92,12 @@ def test_user_errors_exit_1_with_one_line(db: str) -> None:
 
 
 def test_usage_errors_exit_2(db: str) -> None:
-    assert invoke("axis", "add", "x", "--unit", "furlong", "--feedback", "encoder", "--db", db).exit_code == 2
+    assert (
+        invoke(
+            "axis", "add", "x", "--unit", "furlong", "--feedback", "encoder", "--db", db
+        ).exit_code
+        == 2
+    )
     assert invoke("runs", "list", "--since", "yesterday", "--db", db).exit_code == 2
 
 
@@ -88,7 +130,7 @@ def test_every_command_has_help_with_an_example() -> None:
         for name, sub in getattr(command, "commands", {}).items():
             yield from walk(sub, [*path, name])
 
-    for path, command in walk(main, []):
+    for path, _command in walk(main, []):
         result = invoke(*path, "--help")
         assert result.exit_code == 0, path
         assert "Example:" in result.output, f"'logbook {' '.join(path)}' help has no example"
@@ -97,7 +139,9 @@ def test_every_command_has_help_with_an_example() -> None:
 def test_console_script_runs_without_traceback(tmp_path: Path) -> None:
     result = subprocess.run(
         [sys.executable, "-m", "logbook", "axis", "list", "--db", str(tmp_path / "none.db")],
-        capture_output=True, text=True, check=False,
+        capture_output=True,
+        text=True,
+        check=False,
     )
     assert result.returncode == 1
     assert "Traceback" not in result.stderr and "logbook init" in result.stderr

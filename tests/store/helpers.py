@@ -28,22 +28,30 @@ def step_trace(n: int = 50) -> Trace:
 
 def seed_axis(session: Session, name: str = "x-stage") -> None:
     """An axis with revisions A -> B -> C and A -> D, and one gain set 'base'."""
-    catalog.add_axis(session, name, position_unit="mm", feedback_kind="encoder", counts_per_rev=2000)
+    catalog.add_axis(
+        session, name, position_unit="mm", feedback_kind="encoder", counts_per_rev=2000
+    )
     catalog.add_revision(session, name, "A")
     catalog.add_revision(session, name, "B", parent="A", change_category="mechanical")
     catalog.add_revision(session, name, "C", parent="B", change_category="firmware")
     catalog.add_revision(session, name, "D", parent="A", change_category="electrical")
     if session.query(catalog.GainSet).filter_by(name="base").first() is None:
-        catalog.add_gain_set(session, catalog.GainParams(kp=2.0, ki=10.0, kd=0.01, loop_rate_hz=1000.0), name="base")
+        catalog.add_gain_set(
+            session, catalog.GainParams(kp=2.0, ki=10.0, kd=0.01, loop_rate_hz=1000.0), name="base"
+        )
 
 
-def seed_run(session: Session, raw: bytes = b"t,sp,fb\n0,0,0\n", axis: str = "x-stage", rev: str = "B") -> TestRun:
+def seed_run(
+    session: Session, raw: bytes = b"t,sp,fb\n0,0,0\n", axis: str = "x-stage", rev: str = "B"
+) -> TestRun:
     return add_run(
         session,
         axis=catalog.get_axis(session, axis),
         revision=catalog.get_revision(session, axis, rev),
         gain_set=catalog.get_gain_set(session, "base"),
         test_kind="position_step",
-        conditions=RunConditions(taken_at=datetime(2026, 11, 3, 9, 30, tzinfo=UTC), operator="tester"),
+        conditions=RunConditions(
+            taken_at=datetime(2026, 11, 3, 9, 30, tzinfo=UTC), operator="tester"
+        ),
         evidence=RunEvidence(source_name="run.csv", raw_bytes=raw, trace=step_trace()),
     )

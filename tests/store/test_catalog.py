@@ -66,9 +66,13 @@ def test_identical_gain_sets_are_one_row(database: Database) -> None:
 
 def test_gain_set_name_clash_and_bad_values(database: Database) -> None:
     with database.session(write=True) as session:
-        catalog.add_gain_set(session, catalog.GainParams(kp=1, ki=0, kd=0, loop_rate_hz=500), name="g")
+        catalog.add_gain_set(
+            session, catalog.GainParams(kp=1, ki=0, kd=0, loop_rate_hz=500), name="g"
+        )
         with pytest.raises(ConflictError, match="'g' is already used"):
-            catalog.add_gain_set(session, catalog.GainParams(kp=3, ki=0, kd=0, loop_rate_hz=500), name="g")
+            catalog.add_gain_set(
+                session, catalog.GainParams(kp=3, ki=0, kd=0, loop_rate_hz=500), name="g"
+            )
         with pytest.raises(InputError, match="loop rate must be positive"):
             catalog.add_gain_set(session, catalog.GainParams(kp=1, ki=0, kd=0, loop_rate_hz=0))
         with pytest.raises(InputError, match="anti-windup must be one of"):
@@ -83,7 +87,10 @@ def test_unknown_axis_and_revision_errors_list_what_exists(database: Database) -
     with database.session() as session:
         with pytest.raises(NotFoundError, match=r"unknown axis 'z-stage' \(known axes: x-stage\)"):
             catalog.get_axis(session, "z-stage")
-        with pytest.raises(NotFoundError, match=r"unknown revision 'Q' of axis 'x-stage' \(known revisions: A, B, C, D\)"):
+        with pytest.raises(
+            NotFoundError,
+            match=r"unknown revision 'Q' of axis 'x-stage' \(known revisions: A, B, C, D\)",
+        ):
             catalog.get_revision(session, "x-stage", "Q")
         with pytest.raises(NotFoundError, match="unknown gain set 'nope'"):
             catalog.get_gain_set(session, "nope")
@@ -100,7 +107,11 @@ def test_duplicates_and_bad_axis_fields(database: Database) -> None:
             catalog.add_axis(session, "w", position_unit="furlong", feedback_kind="encoder")
         with pytest.raises(InputError, match="two different raw readings"):
             catalog.add_axis(
-                session, "w", position_unit="deg", feedback_kind="potentiometer", calibration=(1, 0, 1, 90)
+                session,
+                "w",
+                position_unit="deg",
+                feedback_kind="potentiometer",
+                calibration=(1, 0, 1, 90),
             )
 
 

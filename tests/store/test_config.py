@@ -10,7 +10,9 @@ from logbook.errors import ConfigError
 from logbook.store.config import display_url, mask_text, resolve_url
 
 
-def test_precedence_option_then_environment_then_default(tmp_path: Path, monkeypatch: pytest.MonkeyPatch) -> None:
+def test_precedence_option_then_environment_then_default(
+    tmp_path: Path, monkeypatch: pytest.MonkeyPatch
+) -> None:
     monkeypatch.chdir(tmp_path)
     env = {"LOGBOOK_DB": str(tmp_path / "from-env.db")}
     assert resolve_url("given.db", env).database == str(tmp_path / "given.db")

@@ -34,7 +34,19 @@ def _bits(values: np.ndarray) -> list[bytes]:
 def test_trace_blob_round_trip_is_bit_exact() -> None:
     payload_nan = struct.unpack("<d", struct.pack("<Q", 0x7FF8_0000_DEAD_BEEF))[0]
     awkward = np.array(
-        [0.0, -0.0, np.nan, payload_nan, np.inf, -np.inf, 1e308, -1e-308, 5e-324, 1 / 3, 2.0**53 + 1]
+        [
+            0.0,
+            -0.0,
+            np.nan,
+            payload_nan,
+            np.inf,
+            -np.inf,
+            1e308,
+            -1e-308,
+            5e-324,
+            1 / 3,
+            2.0**53 + 1,
+        ]
     )
     trace = Trace(
         channels=(
@@ -42,13 +54,15 @@ def test_trace_blob_round_trip_is_bit_exact() -> None:
             Channel("value", Role.FEEDBACK, "mm", awkward),
         )
     )
-    back = decode_samples(encode_samples(trace), [("t [s]", "time", "s"), ("value", "feedback", "mm")])
+    back = decode_samples(
+        encode_samples(trace), [("t [s]", "time", "s"), ("value", "feedback", "mm")]
+    )
     assert _bits(back.channels[1].values) == _bits(awkward)
     assert back.channels[1].values.dtype == np.float64
 
 
 def test_run_round_trip_through_the_database(database: Database) -> None:
-    raw = "t,sp,fb\n0,0,0\n".encode() * 100
+    raw = b"t,sp,fb\n0,0,0\n" * 100
     with database.session(write=True) as session:
         seed_axis(session)
         run_id = seed_run(session, raw=raw).id
@@ -80,24 +94,40 @@ def test_timestamps_are_converted_to_utc_and_naive_ones_refused(database: Databa
         run.taken_at = datetime(2026, 11, 3, 10, 30, tzinfo=timezone(timedelta(hours=1)))
     with database.session() as session:
         assert session.get(TestRun, run.id).taken_at == datetime(2026, 11, 3, 9, 30, tzinfo=UTC)
-    with pytest.raises(Exception, match="has no time zone"), database.session(write=True) as session:
+    with (
+        pytest.raises(Exception, match="has no time zone"),
+        database.session(write=True) as session,
+    ):
         session.get(TestRun, run.id).taken_at = datetime(2026, 11, 3, 9, 30)
         session.flush()
 
 
 def _issue_report(database: Database, run_id: int) -> None:
     with database.session(write=True) as session:
-        spec = Spec(name="s", version="1", test_kind="position_step", statistic="median", required_runs=1)
+        spec = Spec(
+            name="s", version="1", test_kind="position_step", statistic="median", required_runs=1
+        )
         settings = AnalysisSettingsRow(
-            content_hash="0" * 64, analysis_version="t", rise_low=0.1, rise_high=0.9, band=0.02,
-            level_estimator="t", settings={},
+            content_hash="0" * 64,
+            analysis_version="t",
+            rise_low=0.1,
+            rise_high=0.9,
+            band=0.02,
+            level_estimator="t",
+            settings={},
         )
         session.add_all([spec, settings])
         session.flush()
         run = session.get(TestRun, run_id)
         report = AcceptanceReport(
-            spec_id=spec.id, axis_id=run.axis_id, revision_id=run.revision_id, settings_id=settings.id,
-            decision_rule="simple", verdict="pass", content_hash="f" * 64, software_version="t",
+            spec_id=spec.id,
+            axis_id=run.axis_id,
+            revision_id=run.revision_id,
+            settings_id=settings.id,
+            decision_rule="simple",
+            verdict="pass",
+            content_hash="f" * 64,
+            software_version="t",
         )
         session.add(report)
         session.flush()
@@ -121,7 +151,10 @@ def test_reported_runs_are_locked(database: Database) -> None:
     for statement in attempts:
         with pytest.raises(LockedError), database.session(write=True) as session:
             session.execute(statement)
-    with pytest.raises(LockedError, match="issued acceptance report"), database.session(write=True) as session:
+    with (
+        pytest.raises(LockedError, match="issued acceptance report"),
+        database.session(write=True) as session,
+    ):
         session.get(TestRun, locked_id).operator = "someone else"
     with database.session(write=True) as session:  # unreported runs stay editable
         session.execute(update(TestRun).where(TestRun.id == free_id).values(notes="fine"))
