@@ -136,11 +136,11 @@ def profile_from_dict(data: Mapping[str, Any], *, file: str | None = None) -> Im
     ]
     if missing:
         raise InputError(f"profile field '{missing[0]}' is required", file=file)
-    if file is None:
-        return ImportProfile(**data)
     try:
         return ImportProfile(**data)
     except InputError as exc:
+        if file is None:
+            raise
         raise exc.located(file) from None
 
 

@@ -38,6 +38,8 @@ DECIMAL_MARKS = (".", ",")
 #: Values whose magnitude exceeds this are rejected as absurd (a corrupt cell or a
 #: unit mix-up); no bench quantity in seconds, mm, deg, V or counts comes near it.
 MAX_ABS_VALUE = 1e12
+#: Longest line accepted (far above any real capture row; stops binary junk early).
+MAX_LINE_BYTES = 65_536
 #: Data lines after the header used to sniff the delimiter and decimal mark.
 SNIFF_LINES = 50
 
@@ -99,6 +101,10 @@ def read_table(
             table = _read_text(name, delimiter, decimal)
     except OSError as exc:
         raise InputError(f"cannot open the file: {exc.strerror or exc}", file=name) from exc
+    except InputError as exc:
+        if exc.file is not None:
+            raise
+        raise exc.located(name) from exc
     _check_magnitudes(table, max_abs)
     return table
 
@@ -228,19 +234,35 @@ def _read_layout(path: str, delimiter: str | None, decimal: str | None) -> _Layo
 def _decode(raw: bytes, path: str, line_no: int) -> str:
     if b"\x00" in raw:
         raise InputError("binary data (NUL bytes), not a text table", file=path, line=line_no)
+    if len(raw) > MAX_LINE_BYTES:
+        raise InputError(
+            f"a line of {len(raw)} bytes is too long for a table (binary data?)",
+            file=path,
+            line=line_no,
+        )
     try:
-        return raw.decode("utf-8")
+        text = raw.decode("utf-8")
     except UnicodeDecodeError:
         raise InputError(
             "not UTF-8 text (binary data, or another encoding: save the file as UTF-8)",
             file=path,
             line=line_no,
         ) from None
+    if "\r" in text.rstrip("\r\n"):
+        raise InputError(
+            "carriage return inside a line (save with \\n or \\r\\n line ends)",
+            file=path,
+            line=line_no,
+        )
+    return text
 
 
 def _split(line: str, delimiter: str) -> list[str]:
     """Fields of one line, quotes removed and surrounding spaces stripped."""
-    return [field.strip() for field in next(csv.reader([line], delimiter=delimiter))]
+    try:
+        return [field.strip() for field in next(csv.reader([line], delimiter=delimiter))]
+    except csv.Error as exc:  # _decode rules out the known causes; kept as a safety net
+        raise InputError(f"cannot split a line into fields ({exc})") from exc
 
 
 def _sniff_delimiter(header: str, sample: list[str]) -> str:
