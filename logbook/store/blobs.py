@@ -2,14 +2,14 @@
 
 Samples are one Parquet table (zstd-compressed, float64 columns in channel
 order), which round-trips bit-exactly: NaN payloads, negative zero, subnormals and
-extremes come back as they went in. The original file is kept zlib-compressed so
-the raw evidence is never lost.
+extremes come back as they went in. The original file is kept zstd-compressed
+(fast enough not to slow an import, and smaller than zlib) so the raw evidence is
+never lost; its size is stored beside it.
 """
 
 from __future__ import annotations
 
 import io
-import zlib
 
 import numpy as np
 import pyarrow as pa
@@ -18,7 +18,7 @@ import pyarrow.parquet as pq
 from logbook.trace import Channel, Role, Trace
 
 SAMPLES_FORMAT = "parquet-zstd-v1"
-RAW_CODEC = "zlib"
+RAW_CODEC = "zstd"
 
 
 def encode_samples(trace: Trace) -> bytes:
@@ -49,8 +49,9 @@ def decode_samples(
 
 
 def compress_raw(data: bytes) -> bytes:
-    return zlib.compress(data, level=6)
+    return pa.compress(data, codec=RAW_CODEC, asbytes=True)
 
 
-def decompress_raw(data: bytes) -> bytes:
-    return zlib.decompress(data)
+def decompress_raw(data: bytes, size: int) -> bytes:
+    """The original bytes; ``size`` is their length, as stored with the run."""
+    return pa.decompress(data, decompressed_size=size, codec=RAW_CODEC, asbytes=True)

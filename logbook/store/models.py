@@ -214,7 +214,7 @@ class TestRun(Base):
 
 
 class Trace(Base):
-    """A run's samples (Parquet bytes, bit-exact) and the original file (zlib)."""
+    """A run's samples (Parquet bytes, bit-exact) and the original file (zstd)."""
 
     __tablename__ = "traces"
 

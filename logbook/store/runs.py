@@ -139,7 +139,7 @@ def load_raw_file(session: Session, run: TestRun) -> bytes:
     row = session.get(TraceRow, run.id)
     if row is None:
         raise LookupError(f"run {run.id} has no trace")
-    return decompress_raw(row.raw_bytes)
+    return decompress_raw(row.raw_bytes, row.raw_size)
 
 
 def settings_row(session: Session, settings: AnalysisSettings) -> AnalysisSettingsRow:

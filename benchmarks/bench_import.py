@@ -1,0 +1,113 @@
+"""Benchmark: end-to-end import against pandas' own parsing of the same files.
+
+Run:  python benchmarks/bench_import.py [--files 10] [--rows 100000]
+
+Writes FILES capture CSVs of ROWS rows each (10 kHz; a few steps up and down with
+a second-order response, noise and an effort channel) into a temporary folder,
+then measures in the same run, on the same files:
+
+* parse only: ``pandas.read_csv`` of every file (the floor of any CSV import);
+* import: ``logbook.services.importing.import_files`` into a fresh SQLite logbook
+  (read, validate, analyse every step, store trace blob, original bytes, figures).
+
+Prints rows per second for both and their ratio. Target: the whole import at
+least half as fast as parsing alone (ratio >= 0.5).
+"""
+
+from __future__ import annotations
+
+import argparse
+import tempfile
+import time
+from pathlib import Path
+
+import numpy as np
+import pandas as pd
+
+from logbook.ingest.metadata import RunFields
+from logbook.services import catalog
+from logbook.services.importing import ImportRequest, Outcome, import_files
+from logbook.store.config import resolve_url
+from logbook.store.engine import Database
+from logbook.store.migrate import init_database
+
+
+def write_capture(path: Path, rows: int, seed: int) -> None:
+    rng = np.random.default_rng(seed)
+    t = np.arange(rows) / 10_000.0
+    levels = np.array([0.0, 5.0, -2.0, 3.0, 0.0])
+    edges = np.linspace(0, t[-1], len(levels) + 1)[:-1] + 0.05
+    setpoint = levels[np.searchsorted(edges, t, side="right") - 1].astype(float)
+    setpoint[t < edges[0]] = 0.0
+    # Second-order response (zeta 0.5, wn 60 rad/s) to each setpoint change.
+    zeta, wn = 0.5, 60.0
+    wd = wn * np.sqrt(1 - zeta**2)
+    feedback = np.zeros(rows)
+    previous = 0.0
+    for edge in edges:
+        level = setpoint[np.searchsorted(t, edge)]
+        dt = np.clip(t - edge, 0, None)
+        unit = 1 - np.exp(-zeta * wn * dt) * (
+            np.cos(wd * dt) + zeta / np.sqrt(1 - zeta**2) * np.sin(wd * dt)
+        )
+        feedback += (level - previous) * np.where(t >= edge, unit, 0.0)
+        previous = level
+    feedback += rng.normal(0, 0.005, rows)
+    effort = np.clip(8.0 * (setpoint - feedback), -12, 12)
+    frame = pd.DataFrame(
+        {"t [s]": t, "setpoint [mm]": setpoint, "position [mm]": feedback, "effort [V]": effort}
+    )
+    with path.open("w") as fh:
+        fh.write("# operator: bench\n# revision: A\n")
+        frame.to_csv(fh, index=False, float_format="%.6g")
+
+
+def main() -> None:
+    parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    parser.add_argument("--files", type=int, default=10)
+    parser.add_argument("--rows", type=int, default=100_000)
+    args = parser.parse_args()
+
+    with tempfile.TemporaryDirectory() as folder:
+        root = Path(folder)
+        captures = root / "captures"
+        captures.mkdir()
+        for i in range(args.files):
+            write_capture(captures / f"capture_{i:03d}.csv", args.rows, seed=i)
+        files = sorted(captures.glob("*.csv"))
+        size_mb = sum(f.stat().st_size for f in files) / 1e6
+        total_rows = args.files * args.rows
+
+        start = time.perf_counter()
+        for f in files:
+            pd.read_csv(f, comment="#")
+        parse_s = time.perf_counter() - start
+
+        database = Database(resolve_url(str(root / "bench.db")))
+        init_database(database)
+        with database.session(write=True) as session:
+            catalog.add_axis(session, "x-stage", position_unit="mm", feedback_kind="encoder")
+            catalog.add_revision(session, "x-stage", "A")
+            catalog.add_gain_set(
+                session, catalog.GainParams(kp=8, ki=0, kd=0, loop_rate_hz=10_000), name="bench"
+            )
+        request = ImportRequest(axis="x-stage", gains="bench", run_fields=RunFields(revision="A"))
+        start = time.perf_counter()
+        results = import_files(database, [str(captures)], request)
+        import_s = time.perf_counter() - start
+        bad = [r.message for r in results if r.outcome is not Outcome.IMPORTED]
+        if bad:
+            raise SystemExit(f"import failed: {bad[0]}")
+
+    print(f"files: {args.files} x {args.rows:,} rows ({size_mb:.1f} MB)")
+    print(f"{'step':<28}{'seconds':>10}{'rows/s':>14}")
+    print(f"{'pandas.read_csv (parse)':<28}{parse_s:>10.2f}{total_rows / parse_s:>14,.0f}")
+    print(f"{'logbook import (all)':<28}{import_s:>10.2f}{total_rows / import_s:>14,.0f}")
+    ratio = parse_s / import_s
+    print(
+        f"import speed / parse speed: {ratio:.2f} (target >= 0.50: {'met' if ratio >= 0.5 else 'NOT met'})"
+    )
+
+
+if __name__ == "__main__":
+    main()
