@@ -165,7 +165,6 @@ class Evaluation:
             "spec": self.spec.to_dict(),
             "rule": str(self.rule),
             "coverage_factor": self.coverage_factor,
-            "rule_text": describe_rule(self.rule, self.spec.statistic, self.coverage_factor),
             "runs": list(self.runs),
             "excluded": list(self.excluded),
             "metrics": [m.to_dict() for m in self.metrics],
