@@ -13,6 +13,7 @@ from __future__ import annotations
 
 import re
 from collections.abc import Sequence
+from dataclasses import dataclass
 
 import numpy as np
 
@@ -64,8 +65,10 @@ ROLE_NAMES: dict[Role, tuple[str, ...]] = {
     ),
 }
 
-#: Time units a header may carry, as factors to seconds.
-TIME_UNITS = {"s": 1.0, "sec": 1.0, "ms": 1e-3, "us": 1e-6, "µs": 1e-6, "μs": 1e-6}
+#: Time units, as factors to seconds.
+TIME_UNITS = {"s": 1.0, "ms": 1e-3, "us": 1e-6}
+#: Other spellings of those units accepted in a header's brackets.
+TIME_UNIT_SPELLINGS = {"sec": "s", "µs": "us", "μs": "us"}
 #: Fewest samples a trace may have (a step needs a before, an at and an after).
 MIN_ROWS = 3
 
@@ -92,6 +95,95 @@ def find_column(names: Sequence[str], role: Role) -> str | None:
     return next((name for name in names if base_name(name) in wanted), None)
 
 
+@dataclass(frozen=True)
+class ColumnRoles:
+    """The columns chosen for each role (effort is optional)."""
+
+    time: str
+    setpoint: str
+    feedback: str
+    effort: str | None = None
+
+    def items(self) -> list[tuple[Role, str]]:
+        """(role, column) for every role that has a column, time first."""
+        pairs = [
+            (Role.TIME, self.time),
+            (Role.SETPOINT, self.setpoint),
+            (Role.FEEDBACK, self.feedback),
+            (Role.EFFORT, self.effort),
+        ]
+        return [(role, name) for role, name in pairs if name is not None]
+
+
+def choose_columns(
+    table: RawTable,
+    *,
+    time: str | None = None,
+    setpoint: str | None = None,
+    feedback: str | None = None,
+    effort: str | None = None,
+) -> ColumnRoles:
+    """Columns named explicitly, the rest found by :func:`find_column`.
+
+    Rejects, naming the header line and column: an explicit name the file lacks, a
+    required role (time, setpoint, feedback) not found, one column in two roles.
+    """
+    roles = ColumnRoles(
+        time=_required(table, time, Role.TIME),
+        setpoint=_required(table, setpoint, Role.SETPOINT),
+        feedback=_required(table, feedback, Role.FEEDBACK),
+        effort=_resolve(table, effort, Role.EFFORT),
+    )
+    roles_of: dict[str, Role] = {}
+    for role, name in roles.items():
+        if name in roles_of:
+            raise InputError(
+                f"the column is chosen as both {roles_of[name]} and {role}",
+                file=table.path,
+                line=table.header_line,
+                column=name,
+            )
+        roles_of[name] = role
+    return roles
+
+
+def _resolve(table: RawTable, given: str | None, role: Role) -> str | None:
+    if given is None:
+        return find_column(list(table.columns), role)
+    if given not in table.columns:
+        raise InputError(
+            f"no such {role} column; the columns are {list(table.columns)}",
+            file=table.path,
+            line=table.header_line,
+            column=given,
+        )
+    return given
+
+
+def _required(table: RawTable, given: str | None, role: Role) -> str:
+    found = _resolve(table, given, role)
+    if found is None:
+        raise InputError(
+            f"no {role} column found by name (looked for {', '.join(ROLE_NAMES[role])}; "
+            f"the columns are {list(table.columns)}); name it explicitly",
+            file=table.path,
+            line=table.header_line,
+        )
+    return found
+
+
+def header_time_unit(header: str) -> str:
+    """The time unit in ``header``'s brackets as a key of TIME_UNITS; "s" when none.
+
+    Raises InputError (column = ``header``, file left to the caller) for other units.
+    """
+    unit = unit_of(header) or "s"
+    unit = TIME_UNIT_SPELLINGS.get(unit, unit)
+    if unit not in TIME_UNITS:
+        raise InputError(f"time unit '{unit}' is not one of s, ms, us", column=header)
+    return unit
+
+
 def trace_from_table(
     table: RawTable,
     *,
@@ -103,72 +195,32 @@ def trace_from_table(
 ) -> Trace:
     """A Trace of the plain columns (no signal conversion) of ``table``.
 
-    Columns not named are found by :func:`find_column`; effort is optional. Time is
-    converted to seconds when its header carries ``[ms]`` or ``[us]``. Rejects, with
-    file, line and column: a missing column, one column in two roles, fewer than
-    ``min_rows`` rows, NaN in a used column, time not strictly increasing.
+    Columns are chosen by :func:`choose_columns`. Time is converted to seconds when
+    its header carries ``[ms]`` or ``[us]`` (:func:`header_time_unit`). Rejects, with
+    file, line and column: the faults of choose_columns, fewer than ``min_rows`` rows,
+    NaN in a used column, time not strictly increasing.
     """
-    chosen = {
-        Role.TIME: _resolve(table, time, Role.TIME, required=True),
-        Role.SETPOINT: _resolve(table, setpoint, Role.SETPOINT, required=True),
-        Role.FEEDBACK: _resolve(table, feedback, Role.FEEDBACK, required=True),
-        Role.EFFORT: _resolve(table, effort, Role.EFFORT, required=False),
-    }
-    used = {role: name for role, name in chosen.items() if name is not None}
+    roles = choose_columns(table, time=time, setpoint=setpoint, feedback=feedback, effort=effort)
     check_rows(table, min_rows)
-    roles_of: dict[str, Role] = {}
-    for role, name in used.items():
-        if name in roles_of:
-            raise InputError(
-                f"the column is chosen as both {roles_of[name]} and {role}",
-                file=table.path,
-                column=name,
-            )
-        roles_of[name] = role
+    for _, name in roles.items():
         check_finite(table, name)
-    time_name = used[Role.TIME]
-    time_unit = unit_of(time_name) or "s"
-    if time_unit not in TIME_UNITS:
-        raise InputError(
-            f"time unit '{time_unit}' is not one of s, ms, us", file=table.path, column=time_name
-        )
-    seconds = to_seconds(table.columns[time_name], time_unit)
-    check_increasing(table, time_name, seconds)
-    channels = [Channel(time_name, Role.TIME, "s", seconds)]
+    try:
+        time_unit = header_time_unit(roles.time)
+    except InputError as exc:
+        raise exc.located(table.path) from None
+    seconds = to_seconds(table.columns[roles.time], time_unit)
+    check_increasing(table, roles.time, seconds)
+    channels = [Channel(roles.time, Role.TIME, "s", seconds)]
     channels += [
-        Channel(name, role, unit_of(name), table.columns[name])
-        for role, name in used.items()
-        if role is not Role.TIME
+        Channel(name, role, unit_of(name), table.columns[name]) for role, name in roles.items()[1:]
     ]
     return Trace(tuple(channels))
 
 
 def to_seconds(values: np.ndarray, unit: str) -> np.ndarray:
-    """``values`` in ``unit`` (one of :data:`TIME_UNITS`) as seconds; no copy for s."""
+    """``values`` in ``unit`` (a key of :data:`TIME_UNITS`) as seconds; no copy for s."""
     factor = TIME_UNITS[unit]
     return values if factor == 1.0 else values * factor
-
-
-def _resolve(table: RawTable, given: str | None, role: Role, *, required: bool) -> str | None:
-    names = list(table.columns)
-    if given is not None:
-        if given not in table.columns:
-            raise InputError(
-                f"no such {role} column; the columns are {names}",
-                file=table.path,
-                line=table.header_line,
-                column=given,
-            )
-        return given
-    found = find_column(names, role)
-    if found is None and required:
-        raise InputError(
-            f"no {role} column found by name (looked for {', '.join(ROLE_NAMES[role])}; "
-            f"the columns are {names}); name it explicitly",
-            file=table.path,
-            line=table.header_line,
-        )
-    return found
 
 
 def check_rows(table: RawTable, min_rows: int = MIN_ROWS) -> None:

@@ -16,8 +16,9 @@ from dataclasses import MISSING, asdict, dataclass, fields
 from typing import Any
 
 from logbook.errors import InputError
+from logbook.ingest.columns import TIME_UNITS as SECONDS_PER_UNIT
 
-TIME_UNITS = ("s", "ms", "us")
+TIME_UNITS = tuple(SECONDS_PER_UNIT)
 PULSE_UNITS = ("us", "ms")
 SETPOINT_SIGNALS = ("value", "pulse_width")
 FEEDBACK_SIGNALS = ("value", "counts", "quadrature", "analogue")
@@ -96,6 +97,13 @@ class ImportProfile:
                 "profile field 'setpoint_unit': a pulse_width setpoint is "
                 f"converted to deg, not {self.setpoint_unit!r}"
             )
+        named = [(key, getattr(self, key)) for key in _COLUMN_FIELDS if getattr(self, key)]
+        for i, (key, column) in enumerate(named):
+            for other, same in named[:i]:
+                if same == column:
+                    raise InputError(
+                        f"profile fields '{other}' and '{key}' name the same column {column!r}"
+                    )
         for name in ("pulse_half_span_us", "pulse_half_travel_deg"):
             if not getattr(self, name) > 0:
                 raise InputError(f"profile field '{name}' must be positive")
@@ -110,15 +118,18 @@ class ImportProfile:
     @property
     def columns(self) -> tuple[str, ...]:
         """Every file column the profile reads."""
-        named = (
-            self.time_column,
-            self.setpoint_column,
-            self.feedback_column,
-            self.quadrature_a_column,
-            self.quadrature_b_column,
-            self.effort_column,
-        )
+        named = (getattr(self, key) for key in _COLUMN_FIELDS)
         return tuple(c for c in named if c is not None)
+
+
+_COLUMN_FIELDS = (
+    "time_column",
+    "setpoint_column",
+    "feedback_column",
+    "quadrature_a_column",
+    "quadrature_b_column",
+    "effort_column",
+)
 
 
 _FIELDS = {spec.name: spec for spec in fields(ImportProfile)}

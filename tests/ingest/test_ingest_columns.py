@@ -9,7 +9,13 @@ import pytest
 
 from logbook.errors import InputError
 from logbook.ingest import RawTable, find_column, read_table, trace_from_table
-from logbook.ingest.columns import base_name, unit_of
+from logbook.ingest.columns import (
+    ColumnRoles,
+    base_name,
+    choose_columns,
+    header_time_unit,
+    unit_of,
+)
 from logbook.trace import Role
 
 GOOD = Path(__file__).parent / "good"
@@ -85,3 +91,35 @@ def test_nan_in_an_unused_column_is_allowed() -> None:
     columns = {"t": np.array([0.0, 1.0, 2.0]), "sp": np.ones(3), "y": np.zeros(3), "spare": nan}
     trace = trace_from_table(RawTable("mem", columns, {}, 2))
     assert len(trace) == 3 and trace.by_role(Role.EFFORT) is None
+
+
+@pytest.mark.parametrize(
+    ("header", "unit"),
+    [
+        ("t", "s"),
+        ("t [s]", "s"),
+        ("time (sec)", "s"),
+        ("t [ms]", "ms"),
+        ("t [µs]", "us"),
+        ("t [us]", "us"),
+    ],
+)
+def test_header_time_units(header: str, unit: str) -> None:
+    assert header_time_unit(header) == unit
+
+
+def test_microsecond_header_is_converted_to_seconds() -> None:
+    columns = {"t [µs]": np.array([0.0, 500.0, 1000.0]), "sp": np.ones(3), "y": np.zeros(3)}
+    trace = trace_from_table(RawTable("mem", columns, {}, 2))
+    np.testing.assert_allclose(trace.time, [0.0, 5e-4, 1e-3])
+
+
+def test_choose_columns_reports_the_roles() -> None:
+    roles = choose_columns(read_table(GOOD / "tab_separated.tsv"))
+    assert roles == ColumnRoles("t [s]", "setpoint [mm]", "position [mm]", "effort [V]")
+    assert [role for role, _ in roles.items()] == [
+        Role.TIME,
+        Role.SETPOINT,
+        Role.FEEDBACK,
+        Role.EFFORT,
+    ]

@@ -83,14 +83,14 @@ def outcome(path: Path) -> Trace | InputError:
     try:
         table = read_table(path)
         plain = trace_from_table(table)
-        names = list(table.columns)
+        time, setpoint, feedback = (c.name for c in plain.channels[:3])
         profile = profile_from_dict(
             {
                 "name": "p",
                 "axis": "x",
-                "time_column": names[0],
-                "setpoint_column": names[-1],
-                "feedback_column": names[0],
+                "time_column": time,
+                "setpoint_column": setpoint,
+                "feedback_column": feedback,
                 "feedback_signal": "counts",
                 "speed": True,
             }

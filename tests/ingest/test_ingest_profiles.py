@@ -111,3 +111,11 @@ def test_direct_construction_is_validated_too() -> None:
             feedback_column="y",
             time_unit="h",
         )
+
+
+def test_one_column_in_two_fields_is_rejected() -> None:
+    with pytest.raises(
+        InputError,
+        match="profile fields 'time_column' and 'effort_column' name the same column 't \\[ms\\]'",
+    ):
+        profile_from_dict({**MINIMAL, "effort_column": "t [ms]"})
