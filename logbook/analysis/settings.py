@@ -54,13 +54,12 @@ class AnalysisSettings:
     hunting_min_cycles: float = 3.0
     hunting_min_share: float = 0.5
     saturation_min_samples: int = 3
-    fit_max_samples: int = 2000
+    fit_max_samples: int = 500
 
     def __post_init__(self) -> None:
         if not 0.0 <= self.rise_low < self.rise_high <= 1.0:
-            raise ValueError(
-                f"rise limits must satisfy 0 <= low < high <= 1, got {self.rise_low}-{self.rise_high}"
-            )
+            raise ValueError("rise limits must satisfy 0 <= low < high <= 1, "
+                             f"got {self.rise_low}-{self.rise_high}")
         if not 0.0 < self.band < 1.0:
             raise ValueError(f"settling band must be between 0 and 1, got {self.band}")
         if self.level_estimator != "tail-median":

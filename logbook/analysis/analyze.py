@@ -1,0 +1,145 @@
+"""Analyse a whole trace: find its steps and compute every catalogue figure per step."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from logbook.analysis.inputs import samples, time_axis
+from logbook.analysis.levels import tail_median
+from logbook.analysis.metrics import error_integrals, step_figures
+from logbook.analysis.model_fit import fit_second_order
+from logbook.analysis.oscillation import hunting_figures
+from logbook.analysis.results import Figure, StepAnalysis, TraceAnalysis
+from logbook.analysis.saturation import NAMES as SATURATION_NAMES
+from logbook.analysis.saturation import output_limit, saturation_figures
+from logbook.analysis.settings import AnalysisSettings
+from logbook.analysis.steps import Step, find_steps
+from logbook.errors import InputError
+from logbook.trace import Role, Trace
+
+DEFAULT_SETTINGS = AnalysisSettings()
+
+
+@dataclass(frozen=True)
+class _Names:
+    """Channel names used in error messages."""
+
+    time: str = "time"
+    setpoint: str = "setpoint"
+    feedback: str = "feedback"
+    effort: str = "effort"
+
+
+def analyze_arrays(
+    time: np.ndarray,
+    setpoint: np.ndarray,
+    feedback: np.ndarray,
+    effort: np.ndarray | None = None,
+    *,
+    settings: AnalysisSettings = DEFAULT_SETTINGS,
+) -> TraceAnalysis:
+    """Every figure of every step of the trace given as arrays (time in seconds).
+
+    Raises InputError (without a file) for fewer than 3 samples, NaN or infinite
+    values, time not strictly increasing, constant feedback or no setpoint step.
+    """
+    return _analyze(time, setpoint, feedback, effort, settings, _Names())
+
+
+def analyze_trace(trace: Trace, *, settings: AnalysisSettings = DEFAULT_SETTINGS) -> TraceAnalysis:
+    """:func:`analyze_arrays` on the trace's time, setpoint, feedback and (optional)
+    effort channels, picked by role; errors name the channel."""
+    channels = {role: trace.by_role(role) for role in (Role.SETPOINT, Role.FEEDBACK)}
+    for role, channel in channels.items():
+        if channel is None:
+            raise InputError(f"the trace has no {role} channel")
+    setpoint, feedback = channels[Role.SETPOINT], channels[Role.FEEDBACK]
+    assert setpoint is not None and feedback is not None  # checked above
+    effort = trace.by_role(Role.EFFORT)
+    time_name = trace.by_role(Role.TIME).name  # type: ignore[union-attr]  # always present
+    names = _Names(time_name, setpoint.name, feedback.name,
+                   effort.name if effort is not None else "effort")
+    return _analyze(trace.time, setpoint.values, feedback.values,
+                    None if effort is None else effort.values, settings, names)
+
+
+def _analyze(
+    time: object,
+    setpoint: object,
+    feedback: object,
+    effort: object | None,
+    settings: AnalysisSettings,
+    names: _Names,
+) -> TraceAnalysis:
+    t = time_axis(time, names.time)
+    sp = samples(setpoint, names.setpoint, length=len(t))
+    fb = samples(feedback, names.feedback, length=len(t))
+    u = None if effort is None else samples(effort, names.effort, length=len(t))
+    if fb.min() == fb.max():
+        raise InputError("constant feedback: it never changes, nothing to analyse",
+                         column=names.feedback)
+    steps = find_steps(sp, tolerance=settings.step_tolerance)
+    if not steps:
+        raise InputError("no step: the setpoint never changes", column=names.setpoint)
+    limit = None if u is None else output_limit(u, effort_limit=settings.effort_limit)
+    window = settings.level_window
+    results = []
+    initial = tail_median(t, fb, 0, steps[0].start, window=window)
+    for index, step in enumerate(steps):
+        final = tail_median(t, fb, step.start, step.end, window=window)
+        figures = step_figures(t, fb, step, initial, final, settings=settings)
+        figures |= error_integrals(t, sp, fb, step)
+        figures |= _hunting(t, fb, step, figures, settings)
+        figures |= _saturation(t, fb, u, step, limit, figures, settings)
+        figures |= fit_second_order(
+            t, fb, step.start, step.end,
+            initial=initial, amplitude=final - initial,
+            settling_time=figures["settling_time_s"].value,
+            overshoot_pct=figures["overshoot_pct"].value,
+            peak_time=figures["peak_time_s"].value,
+            rise_time=figures["rise_time_s"].value,
+            delay_time=figures["delay_time_s"].value,
+            max_samples=settings.fit_max_samples,
+        )
+        results.append(StepAnalysis(index, figures))
+        initial = final
+    return TraceAnalysis(tuple(results), settings)
+
+
+def _hunting(
+    t: np.ndarray, fb: np.ndarray, step: Step, figures: dict[str, Figure],
+    settings: AnalysisSettings,
+) -> dict[str, Figure]:
+    """Hunting figures over the settled part: the last half of the segment, or less
+    when the step settles later than its midpoint."""
+    settling = figures["settling_time_s"].value
+    t_step = float(t[step.start])
+    begin = 0.5 * (t_step + t[step.end - 1])
+    if settling is not None:
+        begin = max(begin, t_step + settling)
+    first = step.start + int(np.searchsorted(t[step.start : step.end], begin, side="left"))
+    return hunting_figures(
+        t[first : step.end], fb[first : step.end],
+        band_width=2.0 * settings.band * abs(figures["amplitude"].value or 0.0),
+        fraction=settings.hunting_fraction,
+        min_cycles=settings.hunting_min_cycles,
+        min_share=settings.hunting_min_share,
+    )
+
+
+def _saturation(
+    t: np.ndarray, fb: np.ndarray, u: np.ndarray | None, step: Step, limit: float | None,
+    figures: dict[str, Figure], settings: AnalysisSettings,
+) -> dict[str, Figure]:
+    if u is None or limit is None:
+        reason = "no effort channel" if u is None else "the effort is zero throughout"
+        return {name: Figure(None, reason) for name in SATURATION_NAMES}
+    final, amplitude = figures["final"].value, figures["amplitude"].value
+    assert final is not None and amplitude is not None  # levels always exist
+    return saturation_figures(
+        t, fb, u, step.start, step.end,
+        limit=limit, final=final, amplitude=amplitude, band=settings.band,
+        fraction=settings.saturation_fraction, min_samples=settings.saturation_min_samples,
+    )

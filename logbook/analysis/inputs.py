@@ -1,0 +1,44 @@
+"""Checks that turn unusable arrays into an InputError naming the channel and sample."""
+
+from __future__ import annotations
+
+import numpy as np
+
+from logbook.errors import InputError
+
+#: Fewest samples a trace may have (a step needs a before, an at and an after).
+MIN_SAMPLES = 3
+
+
+def samples(values: object, name: str, *, length: int | None = None) -> np.ndarray:
+    """``values`` as a 1-D float64 array without NaN or infinity."""
+    try:
+        array = np.asarray(values, dtype=np.float64)
+    except (TypeError, ValueError) as exc:
+        raise InputError(f"not numbers ({exc})", column=name) from exc
+    if array.ndim != 1:
+        raise InputError(f"must be one-dimensional, got shape {array.shape}", column=name)
+    if length is not None and len(array) != length:
+        raise InputError(f"has {len(array)} samples, the time axis {length}", column=name)
+    bad = ~np.isfinite(array)
+    if bad.any():
+        i = int(np.argmax(bad))
+        raise InputError(f"{'NaN' if np.isnan(array[i]) else 'infinite value'} at sample {i}",
+                         column=name)
+    return array
+
+
+def time_axis(values: object, name: str, *, min_samples: int = MIN_SAMPLES) -> np.ndarray:
+    """A time axis in seconds: at least ``min_samples`` samples, strictly increasing."""
+    time = samples(values, name)
+    if len(time) < min_samples:
+        raise InputError(f"only {len(time)} samples; at least {min_samples} are needed",
+                         column=name)
+    steps = np.diff(time)
+    bad = steps <= 0.0
+    if bad.any():
+        i = int(np.argmax(bad)) + 1
+        what = "duplicate timestamp" if steps[i - 1] == 0.0 else "time goes backwards"
+        raise InputError(f"{what} at sample {i} ({time[i]!r} after {time[i - 1]!r})",
+                         column=name)
+    return time
