@@ -169,7 +169,7 @@ def _read_layout(path: str, delimiter: str | None, decimal: str | None) -> _Layo
         line_no = 0
         header: str | None = None
         while header is None:
-            raw = fh.readline()
+            raw = fh.readline(MAX_LINE_BYTES + 1)
             if not raw:
                 break
             line_no += 1
@@ -199,7 +199,7 @@ def _read_layout(path: str, delimiter: str | None, decimal: str | None) -> _Layo
         data_offset = fh.tell()
         sample = []
         for _ in range(SNIFF_LINES):
-            raw = fh.readline()
+            raw = fh.readline(MAX_LINE_BYTES + 1)
             if not raw:
                 break
             sample.append(_decode(raw, path, line_no + len(sample) + 1).strip())
@@ -236,7 +236,7 @@ def _decode(raw: bytes, path: str, line_no: int) -> str:
         raise InputError("binary data (NUL bytes), not a text table", file=path, line=line_no)
     if len(raw) > MAX_LINE_BYTES:
         raise InputError(
-            f"a line of {len(raw)} bytes is too long for a table (binary data?)",
+            f"a line longer than {MAX_LINE_BYTES} bytes is too long for a table (binary data?)",
             file=path,
             line=line_no,
         )
@@ -343,7 +343,8 @@ def _diagnose(path: str, layout: _Layout) -> None:
     blank_line: int | None = None
     with open(path, "rb") as fh:
         fh.seek(layout.data_offset)
-        for line_no, raw in enumerate(fh, start=layout.header_line + 1):
+        lines = iter(lambda: fh.readline(MAX_LINE_BYTES + 1), b"")
+        for line_no, raw in enumerate(lines, start=layout.header_line + 1):
             text = _decode(raw, path, line_no).strip()
             if not text:
                 blank_line = blank_line or line_no

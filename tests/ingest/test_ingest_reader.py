@@ -120,3 +120,30 @@ def test_wrong_explicit_delimiter_names_the_right_one() -> None:
 def test_bad_reader_options_are_rejected(kwargs: dict[str, str], reason: str) -> None:
     with pytest.raises(InputError, match=reason):
         read_table(GOOD / "utf8_bom.csv", **kwargs)
+
+
+def test_parquet_nulls_become_nan_and_schema_metadata_is_kept(tmp_path: Path) -> None:
+    import pyarrow as pa
+    import pyarrow.parquet as pq
+
+    path = tmp_path / "capture.parquet"
+    table = pa.table(
+        {
+            "t": [0.0, 1.0, 2.0],
+            "sp": pa.array([1, None, 3], type=pa.int32()),
+            "y": pa.array([True, False, True]),
+        },
+        metadata={"Operator": "R. Okafor"},
+    )
+    pq.write_table(table, path)
+    read = read_table(path)
+    np.testing.assert_array_equal(read.columns["sp"], [1.0, np.nan, 3.0])
+    np.testing.assert_array_equal(read.columns["y"], [1.0, 0.0, 1.0])
+    assert read.metadata == {"operator": "R. Okafor"}
+
+
+def test_overlong_line_is_rejected_without_reading_it_whole(tmp_path: Path) -> None:
+    path = tmp_path / "junk.csv"
+    path.write_bytes(b"t,sp,y\n0,0,0\n" + b"7" * 200_000 + b",1,1\n")
+    with pytest.raises(InputError, match=r"line 3: a line longer than 65536 bytes"):
+        read_table(path)
