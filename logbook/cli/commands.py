@@ -18,3 +18,8 @@ def register_commands(group: click.Group) -> None:
     group.add_command(importing.import_command)
     group.add_command(importing.profile_group)
     group.add_command(analyze.analyze_command)
+
+    from logbook.cli import report, specs
+
+    group.add_command(specs.spec_group)
+    group.add_command(report.report_command)

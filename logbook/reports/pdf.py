@@ -29,6 +29,18 @@ def find_chromium() -> str | None:
     return None
 
 
+def require_chromium(browser: str | None = None) -> str:
+    """``browser`` or :func:`find_chromium`; a clear LogbookError when there is none."""
+    executable = browser or find_chromium()
+    if executable is None:
+        raise LogbookError(
+            "cannot print to PDF: no Chromium browser found (install Debian's 'chromium'"
+            f" package, or set {CHROMIUM_ENV} to a Chromium executable); the HTML report"
+            " can still be opened and printed from any browser"
+        )
+    return executable
+
+
 def print_pdf(
     html_path: str | Path,
     pdf_path: str | Path,
@@ -41,13 +53,7 @@ def print_pdf(
     Raises LogbookError when no Chromium is installed, when it fails, or when it
     leaves no PDF behind.
     """
-    executable = browser or find_chromium()
-    if executable is None:
-        raise LogbookError(
-            "cannot print to PDF: no Chromium browser found (install Debian's 'chromium'"
-            f" package, or set {CHROMIUM_ENV} to a Chromium executable); the HTML report"
-            " can still be opened and printed from any browser"
-        )
+    executable = require_chromium(browser)
     source = Path(html_path).resolve()
     if not source.is_file():
         raise LogbookError(f"cannot print to PDF: {html_path} does not exist")

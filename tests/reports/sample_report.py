@@ -10,13 +10,14 @@ from __future__ import annotations
 
 import hashlib
 from dataclasses import replace
+from datetime import UTC, datetime, timedelta
 
 import numpy as np
 from scipy import signal
 
 from logbook.acceptance.rules import DecisionRule, RunValues, evaluate
 from logbook.acceptance.spec_file import Limit, SpecDefinition
-from logbook.analysis import ANALYSIS_VERSION, AnalysisSettings, analyze_arrays
+from logbook.analysis import ANALYSIS_VERSION, AnalysisSettings, analyze_arrays, analyze_trace
 from logbook.reports.data import (
     MetricTrend,
     ReportData,
@@ -26,6 +27,9 @@ from logbook.reports.data import (
     StepPlot,
     TrendPoint,
 )
+from logbook.services import catalog
+from logbook.store.runs import RunConditions, RunEvidence, add_run, save_analysis
+from logbook.trace import Channel, Role, Trace
 
 HOSTILE = (
     '<script>alert("x")</script>"><img src=x onerror=alert(1)>'
@@ -169,3 +173,93 @@ def hostile_copy(report_data: ReportData) -> ReportData:
         ),
         issued_by=HOSTILE,
     )
+
+
+# --- a bench logbook in a database -------------------------------------------------
+
+BENCH_SPEC_TOML = """
+name = "bench-x-position"
+version = "1.0"
+test_kind = "position_step"
+axes = ["bench-x"]
+statistic = "median"
+required_runs = 5
+description = "2 mm position steps at the nominal load"
+[limits.overshoot_pct]
+upper = 15.0
+unit = "%"
+[limits.rise_time_s]
+lower = 0.005
+upper = 0.080
+unit = "s"
+[limits.settling_time_s]
+upper = 0.200
+unit = "s"
+"""
+
+# revision -> damping ratios of its runs (wn = 60 rad/s): B is underdamped and fails
+# the 15 % overshoot limit, C passes; A has too few runs for the spec.
+BENCH_RUNS = {
+    "A": (0.50, 0.52, 0.48),
+    "B": (0.40, 0.41, 0.39, 0.40, 0.42),
+    "C": (0.60, 0.62, 0.58, 0.61, 0.59),
+}
+
+
+def capture_bytes(t: np.ndarray, sp: np.ndarray, fb: np.ndarray) -> bytes:
+    """The run's samples as the CSV file they came from (unique per run via the noise)."""
+    rows = [f"{a:.4f},{b:.1f},{c:.9f}" for a, b, c in zip(t, sp, fb, strict=True)]
+    return ("t [s],setpoint [mm],position [mm]\n" + "\n".join(rows) + "\n").encode()
+
+
+def add_simulated_run(session, *, axis, revision, gain_set, zeta, seed, test_kind="position_step"):
+    """Store one simulated run with its trace and figures (default analysis settings)."""
+    t, sp, fb = simulated_run(zeta, 60.0, seed)
+    trace = Trace(
+        (
+            Channel("t [s]", Role.TIME, "s", t),
+            Channel("setpoint [mm]", Role.SETPOINT, "mm", sp),
+            Channel("position [mm]", Role.FEEDBACK, "mm", fb),
+        )
+    )
+    run = add_run(
+        session,
+        axis=axis,
+        revision=revision,
+        gain_set=gain_set,
+        test_kind=test_kind,
+        conditions=RunConditions(
+            taken_at=datetime(2031, 3, 1, 9, 0, tzinfo=UTC) + timedelta(hours=seed),
+            operator="R. Okonkwo",
+            supply_voltage_v=24.0,
+            load_value=0.5,
+            load_unit="kg",
+            temperature_c=22.5,
+        ),
+        evidence=RunEvidence(
+            f"bench-x_{revision.label}_{seed:03d}.csv", capture_bytes(t, sp, fb), trace
+        ),
+    )
+    save_analysis(session, run, analyze_trace(trace))
+    return run
+
+
+def seed_bench(database, runs=BENCH_RUNS):
+    """Axis bench-x with revisions A -> B -> C, gain set stage-tuned-3 and the runs."""
+    with database.session(write=True) as session:
+        axis = catalog.add_axis(session, "bench-x", position_unit="mm", feedback_kind="encoder",
+                                description="belt-driven positioning stage")  # fmt: skip
+        gains, _ = catalog.add_gain_set(
+            session, catalog.GainParams(kp=4.2, ki=35.0, kd=0.012, loop_rate_hz=2000.0),
+            name="stage-tuned-3",
+        )  # fmt: skip
+        parent = None
+        seed = 0
+        for label, zetas in runs.items():
+            revision = catalog.add_revision(session, "bench-x", label, parent=parent,
+                                            change_summary=f"build {label}")  # fmt: skip
+            parent = label
+            for zeta in zetas:
+                seed += 1
+                add_simulated_run(session, axis=axis, revision=revision, gain_set=gains,
+                                  zeta=zeta, seed=seed)  # fmt: skip
