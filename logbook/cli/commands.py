@@ -19,6 +19,11 @@ def register_commands(group: click.Group) -> None:
     group.add_command(importing.profile_group)
     group.add_command(analyze.analyze_command)
 
+    from logbook.cli import trends
+
+    group.add_command(trends.trend_command)
+    group.add_command(trends.regressions_command)
+
     from logbook.cli import report, specs
 
     group.add_command(specs.spec_group)
