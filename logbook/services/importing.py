@@ -29,7 +29,7 @@ from sqlalchemy.orm import Session
 
 from logbook.analysis import AnalysisSettings, TraceAnalysis, analyze_trace
 from logbook.errors import InputError, LogbookError
-from logbook.ingest.columns import find_column, unit_of
+from logbook.ingest.columns import choose_columns, header_time_unit, unit_of
 from logbook.ingest.convert import AxisInfo, trace_from_profile
 from logbook.ingest.metadata import RunFields, merge_run_fields, parse_run_fields
 from logbook.ingest.profiles import ImportProfile
@@ -45,9 +45,10 @@ from logbook.store.runs import (
     find_run_by_hash,
     save_analysis,
 )
-from logbook.trace import Role, Trace
+from logbook.trace import Trace
 
 CAPTURE_SUFFIXES = (".csv", ".tsv", ".txt", ".parquet")
+COLUMNS_PROFILE = "(columns)"  # name of the one-off profile built from column options
 _GLOB_CHARS = set("*?[")
 
 
@@ -282,48 +283,28 @@ def _profile(
 
 def profile_for_columns(table: RawTable, axis_name: str, choice: ColumnChoice) -> ImportProfile:
     """A one-off profile from column options, falling back to the by-name rule."""
-    names = list(table.columns)
-
-    def pick(given: str | None, role: Role, required: bool) -> str | None:
-        if given is not None:
-            if given not in table.columns:
-                raise InputError(
-                    f"no such {role} column; the columns are {names}",
-                    file=table.path,
-                    line=table.header_line,
-                    column=given,
-                )
-            return given
-        found = find_column(names, role)
-        if found is None and required:
-            raise InputError(
-                f"no {role} column found by name (the columns are {names}); name it with --{role}",
-                file=table.path,
-                line=table.header_line,
-            )
-        return found
-
-    time = pick(choice.time, Role.TIME, True)
-    setpoint = pick(choice.setpoint, Role.SETPOINT, True)
-    feedback = pick(choice.feedback, Role.FEEDBACK, True)
-    effort = pick(choice.effort, Role.EFFORT, False)
-    assert time is not None and setpoint is not None and feedback is not None
-    time_unit = choice.time_unit or unit_of(time) or "s"
-    if time_unit not in ("s", "ms", "us"):
-        raise InputError(
-            f"time unit '{time_unit}' is not one of s, ms, us", file=table.path, column=time
-        )
+    roles = choose_columns(
+        table,
+        time=choice.time,
+        setpoint=choice.setpoint,
+        feedback=choice.feedback,
+        effort=choice.effort,
+    )
+    try:
+        time_unit = choice.time_unit or header_time_unit(roles.time)
+    except InputError as exc:
+        raise exc.located(table.path) from None
     return ImportProfile(
-        name="(columns)",
+        name=COLUMNS_PROFILE,
         axis=axis_name,
-        time_column=time,
+        time_column=roles.time,
         time_unit=time_unit,
-        setpoint_column=setpoint,
-        setpoint_unit=choice.setpoint_unit or unit_of(setpoint),
-        feedback_column=feedback,
-        feedback_unit=choice.feedback_unit or unit_of(feedback),
-        effort_column=effort,
-        effort_unit=(choice.effort_unit or unit_of(effort)) if effort else "",
+        setpoint_column=roles.setpoint,
+        setpoint_unit=choice.setpoint_unit or unit_of(roles.setpoint),
+        feedback_column=roles.feedback,
+        feedback_unit=choice.feedback_unit or unit_of(roles.feedback),
+        effort_column=roles.effort,
+        effort_unit=(choice.effort_unit or unit_of(roles.effort)) if roles.effort else "",
         speed=choice.speed,
     )
 
@@ -401,7 +382,9 @@ def _write(
             source_name=Path(name).name,
             raw_bytes=raw,
             trace=prepared.trace,
-            profile_name=None if prepared.profile.name == "(columns)" else prepared.profile.name,
+            profile_name=None
+            if prepared.profile.name == COLUMNS_PROFILE
+            else prepared.profile.name,
         ),
     )
     save_analysis(session, run, prepared.analysis)
