@@ -6,6 +6,7 @@ import click
 
 from logbook.cli.base import db_option, json_option, open_logbook, print_json, print_table
 from logbook.services import specs
+from logbook.store.engine import Database
 from logbook.store.models import SPEC_STATISTICS, TEST_KINDS
 
 
@@ -66,6 +67,25 @@ def spec_add(
     --limit rise_time_s 0.005 0.080 s
     """
     database = open_logbook(db)
+    try:
+        _add(database, name, spec_file, version, test_kind, axes, limits, statistic,
+             required_runs, description)  # fmt: skip
+    finally:
+        database.dispose()
+
+
+def _add(
+    database: Database,
+    name: str | None,
+    spec_file: str | None,
+    version: str | None,
+    test_kind: str | None,
+    axes: tuple[str, ...],
+    limits: tuple[tuple[str, str, str, str], ...],
+    statistic: str,
+    required_runs: int,
+    description: str,
+) -> None:
     with database.session(write=True) as session:
         if spec_file is not None:
             if name or version or test_kind or axes or limits:
@@ -98,8 +118,12 @@ def spec_list(as_json: bool, db: str | None) -> None:
 
     Example: logbook spec list --json
     """
-    with open_logbook(db).session() as session:
-        rows = [specs.spec_summary(row) for row in specs.list_specs(session)]
+    database = open_logbook(db)
+    try:
+        with database.session() as session:
+            rows = [specs.spec_summary(row) for row in specs.list_specs(session)]
+    finally:
+        database.dispose()
     if as_json:
         print_json(rows)
         return
@@ -120,8 +144,12 @@ def spec_show(name: str, version: str | None, as_json: bool, db: str | None) -> 
 
     Example: logbook spec show stage-position --version 1.0
     """
-    with open_logbook(db).session() as session:
-        row = specs.spec_summary(specs.get_spec(session, name, version))
+    database = open_logbook(db)
+    try:
+        with database.session() as session:
+            row = specs.spec_summary(specs.get_spec(session, name, version))
+    finally:
+        database.dispose()
     if as_json:
         print_json(row)
         return

@@ -16,7 +16,7 @@ import numpy as np
 from scipy import signal
 
 from logbook.acceptance.rules import DecisionRule, RunValues, evaluate
-from logbook.acceptance.spec_file import Limit, SpecDefinition
+from logbook.acceptance.spec_file import Limit, SpecDefinition, parse_spec_text
 from logbook.analysis import ANALYSIS_VERSION, AnalysisSettings, analyze_arrays, analyze_trace
 from logbook.reports.data import (
     MetricTrend,
@@ -27,7 +27,7 @@ from logbook.reports.data import (
     StepPlot,
     TrendPoint,
 )
-from logbook.services import catalog
+from logbook.services import catalog, specs
 from logbook.store.runs import RunConditions, RunEvidence, add_run, save_analysis
 from logbook.trace import Channel, Role, Trace
 
@@ -245,7 +245,8 @@ def add_simulated_run(session, *, axis, revision, gain_set, zeta, seed, test_kin
 
 
 def seed_bench(database, runs=BENCH_RUNS):
-    """Axis bench-x with revisions A -> B -> C, gain set stage-tuned-3 and the runs."""
+    """Axis bench-x with revisions A -> B -> C, gain set stage-tuned-3, the runs and
+    the spec of :data:`BENCH_SPEC_TOML`."""
     with database.session(write=True) as session:
         axis = catalog.add_axis(session, "bench-x", position_unit="mm", feedback_kind="encoder",
                                 description="belt-driven positioning stage")  # fmt: skip
@@ -263,3 +264,6 @@ def seed_bench(database, runs=BENCH_RUNS):
                 seed += 1
                 add_simulated_run(session, axis=axis, revision=revision, gain_set=gains,
                                   zeta=zeta, seed=seed)  # fmt: skip
+        spec = parse_spec_text(BENCH_SPEC_TOML, fmt="toml", source="bench-x.toml")
+        specs.add_spec(session, spec, source_text=BENCH_SPEC_TOML)
+    return database

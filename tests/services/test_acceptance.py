@@ -22,23 +22,28 @@ def ogata_overshoot_pct(zeta: float) -> float:
 
 
 @pytest.fixture
-def bench(database, tmp_path):
-    seed_bench(database)
-    path = tmp_path / "bench-x.toml"
-    path.write_text(BENCH_SPEC_TOML)
-    with database.session(write=True) as session:
-        specs.add_spec_file(session, path)
-    return database
+def bench(database):
+    return seed_bench(database)
 
 
 def test_spec_file_round_trips_through_the_database(bench, tmp_path):
+    path = tmp_path / "bench-x.yaml"
+    path.write_text(
+        "name: bench-x-position\nversion: '2.0'\ntest_kind: position_step\naxes: [bench-x]\n"
+        "limits:\n  overshoot_pct: {upper: 12, unit: '%'}\n"
+    )
+    with bench.session(write=True) as session:
+        added = specs.add_spec_file(session, path)
+        assert added.source_text == path.read_text()
     with bench.session() as session:
-        row = specs.get_spec(session, "bench-x-position")
-        assert specs.spec_definition(row) == parse_spec_text(
+        first = specs.get_spec(session, "bench-x-position", "1.0")
+        assert specs.spec_definition(first) == parse_spec_text(
             BENCH_SPEC_TOML, fmt="toml", source="x"
         )
-        assert row.source_text == BENCH_SPEC_TOML
-        assert [s.name for s in specs.list_specs(session)] == ["bench-x-position"]
+        newest = specs.spec_definition(specs.get_spec(session, "bench-x-position"))
+        assert newest.version == "2.0"
+        assert newest.limits == {"overshoot_pct": Limit(None, 12.0, "%")}
+        assert [s.version for s in specs.list_specs(session)] == ["1.0", "2.0"]
 
 
 def test_versions_are_new_rows_and_the_newest_is_the_default(bench):

@@ -7,7 +7,7 @@ import io
 
 import pytest
 from click.testing import CliRunner
-from reports.sample_report import BENCH_SPEC_TOML, seed_bench
+from reports.sample_report import seed_bench
 from sqlalchemy import select, text, update
 
 from logbook.acceptance.rules import DecisionRule
@@ -15,19 +15,14 @@ from logbook.cli import main
 from logbook.errors import LockedError, LogbookError
 from logbook.reports import pdf
 from logbook.reports.readback import read_report_file
-from logbook.services import catalog, specs
+from logbook.services import catalog
 from logbook.services.reporting import issue_report, verify_report
 from logbook.store.models import AcceptanceReport, AnalysisResult, ReportRun, TestRun
 
 
 @pytest.fixture
-def bench(database, tmp_path):
-    seed_bench(database)
-    path = tmp_path / "bench-x.toml"
-    path.write_text(BENCH_SPEC_TOML)
-    with database.session(write=True) as session:
-        specs.add_spec_file(session, path)
-    return database
+def bench(database):
+    return seed_bench(database)
 
 
 def issue(database, tmp_path, revision="C", **options):
