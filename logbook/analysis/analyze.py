@@ -51,17 +51,15 @@ def analyze_arrays(
 def analyze_trace(trace: Trace, *, settings: AnalysisSettings = DEFAULT_SETTINGS) -> TraceAnalysis:
     """:func:`analyze_arrays` on the trace's time, setpoint, feedback and (optional)
     effort channels, picked by role; errors name the channel."""
-    channels = {role: trace.by_role(role) for role in (Role.SETPOINT, Role.FEEDBACK)}
-    for role, channel in channels.items():
-        if channel is None:
-            raise InputError(f"the trace has no {role} channel")
-    setpoint, feedback = channels[Role.SETPOINT], channels[Role.FEEDBACK]
-    assert setpoint is not None and feedback is not None  # checked above
-    effort = trace.by_role(Role.EFFORT)
-    time_name = trace.by_role(Role.TIME).name  # type: ignore[union-attr]  # always present
-    names = _Names(time_name, setpoint.name, feedback.name,
+    time, setpoint, feedback, effort = (
+        trace.by_role(role) for role in (Role.TIME, Role.SETPOINT, Role.FEEDBACK, Role.EFFORT))
+    if setpoint is None or feedback is None:
+        missing = Role.SETPOINT if setpoint is None else Role.FEEDBACK
+        raise InputError(f"the trace has no {missing} channel")
+    assert time is not None  # a Trace always has its time channel
+    names = _Names(time.name, setpoint.name, feedback.name,
                    effort.name if effort is not None else "effort")
-    return _analyze(trace.time, setpoint.values, feedback.values,
+    return _analyze(time.values, setpoint.values, feedback.values,
                     None if effort is None else effort.values, settings, names)
 
 
@@ -78,8 +76,9 @@ def _analyze(
     fb = samples(feedback, names.feedback, length=len(t))
     u = None if effort is None else samples(effort, names.effort, length=len(t))
     if fb.min() == fb.max():
-        raise InputError("constant feedback: it never changes, nothing to analyse",
-                         column=names.feedback)
+        raise InputError(
+            "constant feedback: it never changes, nothing to analyse", column=names.feedback
+        )
     steps = find_steps(sp, tolerance=settings.step_tolerance)
     if not steps:
         raise InputError("no step: the setpoint never changes", column=names.setpoint)
@@ -94,8 +93,12 @@ def _analyze(
         figures |= _hunting(t, fb, step, figures, settings)
         figures |= _saturation(t, fb, u, step, limit, figures, settings)
         figures |= fit_second_order(
-            t, fb, step.start, step.end,
-            initial=initial, amplitude=final - initial,
+            t,
+            fb,
+            step.start,
+            step.end,
+            initial=initial,
+            amplitude=final - initial,
             settling_time=figures["settling_time_s"].value,
             overshoot_pct=figures["overshoot_pct"].value,
             peak_time=figures["peak_time_s"].value,
@@ -109,7 +112,10 @@ def _analyze(
 
 
 def _hunting(
-    t: np.ndarray, fb: np.ndarray, step: Step, figures: dict[str, Figure],
+    t: np.ndarray,
+    fb: np.ndarray,
+    step: Step,
+    figures: dict[str, Figure],
     settings: AnalysisSettings,
 ) -> dict[str, Figure]:
     """Hunting figures over the settled part: the last half of the segment, or less
@@ -121,7 +127,8 @@ def _hunting(
         begin = max(begin, t_step + settling)
     first = step.start + int(np.searchsorted(t[step.start : step.end], begin, side="left"))
     return hunting_figures(
-        t[first : step.end], fb[first : step.end],
+        t[first : step.end],
+        fb[first : step.end],
         band_width=2.0 * settings.band * abs(figures["amplitude"].value or 0.0),
         fraction=settings.hunting_fraction,
         min_cycles=settings.hunting_min_cycles,
@@ -130,8 +137,13 @@ def _hunting(
 
 
 def _saturation(
-    t: np.ndarray, fb: np.ndarray, u: np.ndarray | None, step: Step, limit: float | None,
-    figures: dict[str, Figure], settings: AnalysisSettings,
+    t: np.ndarray,
+    fb: np.ndarray,
+    u: np.ndarray | None,
+    step: Step,
+    limit: float | None,
+    figures: dict[str, Figure],
+    settings: AnalysisSettings,
 ) -> dict[str, Figure]:
     if u is None or limit is None:
         reason = "no effort channel" if u is None else "the effort is zero throughout"
@@ -139,7 +151,15 @@ def _saturation(
     final, amplitude = figures["final"].value, figures["amplitude"].value
     assert final is not None and amplitude is not None  # levels always exist
     return saturation_figures(
-        t, fb, u, step.start, step.end,
-        limit=limit, final=final, amplitude=amplitude, band=settings.band,
-        fraction=settings.saturation_fraction, min_samples=settings.saturation_min_samples,
+        t,
+        fb,
+        u,
+        step.start,
+        step.end,
+        limit=limit,
+        final=final,
+        amplitude=amplitude,
+        band=settings.band,
+        fraction=settings.saturation_fraction,
+        min_samples=settings.saturation_min_samples,
     )

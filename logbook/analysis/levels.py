@@ -28,13 +28,24 @@ import numpy as np
 def tail_start(time: np.ndarray, start: int, end: int, *, window: float) -> int:
     """Index of the first sample of the last ``window`` fraction of samples
     ``start:end`` by time (always leaves at least the last sample)."""
-    t_last = time[end - 1]
-    cut = t_last - window * (t_last - time[start])
-    return start + int(np.searchsorted(time[start:end], cut, side="left"))
+    t_last = time.item(end - 1)
+    cut = t_last - window * (t_last - time.item(start))
+    return start + int(time[start:end].searchsorted(cut, side="left"))
 
 
 def tail_median(
     time: np.ndarray, values: np.ndarray, start: int, end: int, *, window: float
 ) -> float:
     """The level of samples ``start:end``: the median of their last ``window`` by time."""
-    return float(np.median(values[tail_start(time, start, end, window=window) : end]))
+    return median(values[tail_start(time, start, end, window=window) : end])
+
+
+def median(values: np.ndarray) -> float:
+    """The median (mean of the two middle values for an even count), by partition:
+    the same number as ``np.median`` without its per-call overhead."""
+    n = len(values)
+    half = n // 2
+    if n % 2:
+        return np.partition(values, half).item(half)
+    middle = np.partition(values, (half - 1, half))
+    return 0.5 * (middle.item(half - 1) + middle.item(half))

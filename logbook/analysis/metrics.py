@@ -34,10 +34,17 @@ from logbook.analysis.results import Figure
 from logbook.analysis.settings import AnalysisSettings
 from logbook.analysis.steps import Step
 
+#: First chunk of the forward search for a crossing (chunks grow fourfold).
+FIRST_CHUNK = 256
 #: Figures that are relative to the amplitude, undefined when the feedback does not move.
 RELATIVE = (
-    "rise_start_s", "rise_time_s", "delay_time_s", "peak_time_s", "overshoot_pct",
-    "undershoot_pct", "settling_time_s",
+    "rise_start_s",
+    "rise_time_s",
+    "delay_time_s",
+    "peak_time_s",
+    "overshoot_pct",
+    "undershoot_pct",
+    "settling_time_s",
 )
 
 
@@ -51,7 +58,7 @@ def step_figures(
     settings: AnalysisSettings,
 ) -> dict[str, Figure]:
     """Levels, timing and overshoot figures of one step (see the module docstring)."""
-    t_step = float(time[step.start])
+    t_step = time.item(step.start)
     amplitude = final - initial
     error = step.after - final
     figures = {
@@ -67,14 +74,14 @@ def step_figures(
     if amplitude == 0.0:
         reason = "no response: the final level equals the initial level"
         return figures | {name: Figure(None, reason) for name in RELATIVE}
-    # Progress from initial (0) to final (1), with the pre-step sample at position 0.
+    # The segment with the pre-step sample at position 0 (views, no copies).
     t = time[step.start - 1 : step.end]
-    d = feedback[step.start - 1 : step.end] - initial
-    d *= 1.0 / amplitude
+    y = feedback[step.start - 1 : step.end]
+    rising = amplitude > 0.0
 
-    t_low = _crossing(t, d, settings.rise_low)
-    t_half = _crossing(t, d, 0.5)
-    t_high = _crossing(t, d, settings.rise_high)
+    t_low = _crossing(t, y, initial + settings.rise_low * amplitude, rising)
+    t_half = _crossing(t, y, initial + 0.5 * amplitude, rising)
+    t_high = _crossing(t, y, initial + settings.rise_high * amplitude, rising)
     low_pct, high_pct = 100 * settings.rise_low, 100 * settings.rise_high
     figures["rise_start_s"] = _since(t_low, t_step, f"never reaches {low_pct:g} % of the step")
     figures["delay_time_s"] = _since(t_half, t_step, "never reaches 50 % of the step")
@@ -83,19 +90,27 @@ def step_figures(
     else:
         figures["rise_time_s"] = Figure(t_high - t_low)
 
-    k_peak = int(np.argmax(d[1:])) + 1
-    beyond = float(d[k_peak]) - 1.0
+    body = y[1:]
+    k_peak = 1 + int(body.argmax() if rising else body.argmin())
+    beyond = (y.item(k_peak) - final) / amplitude
     figures["overshoot_pct"] = Figure(max(0.0, beyond) * 100.0)
     figures["peak_time_s"] = (
-        Figure(float(t[k_peak]) - t_step) if beyond > 0.0
+        Figure(t.item(k_peak) - t_step)
+        if beyond > 0.0
         else Figure(None, "no overshoot: the response never passes the final level")
     )
-    k_half = len(d) if t_half is None else int(np.searchsorted(t, t_half, side="right"))
-    figures["undershoot_pct"] = Figure(max(0.0, -float(d[1 : max(k_half, 2)].min())) * 100.0)
+    k_half = len(y) if t_half is None else int(t.searchsorted(t_half, side="right"))
+    before_half = y[1 : max(k_half, 2)]
+    against = (before_half.min() if rising else before_half.max()).item()
+    figures["undershoot_pct"] = Figure(max(0.0, (initial - against) / amplitude) * 100.0)
     figures["settling_time_s"] = _settling(
-        t, d, t_step, settings.band,
-        t_window=float(time[tail_start(time, step.start, step.end,
-                                       window=settings.level_window)]),
+        t,
+        y,
+        t_step,
+        final,
+        settings.band * abs(amplitude),
+        t_window=time.item(tail_start(time, step.start, step.end, window=settings.level_window)),
+        band_pct=100 * settings.band,
         window_pct=100 * settings.level_window,
     )
     return figures
@@ -123,20 +138,36 @@ def _trapezoid(values: np.ndarray, dt: np.ndarray) -> float:
     return float(0.5 * np.dot(values[1:] + values[:-1], dt))
 
 
-def _crossing(t: np.ndarray, d: np.ndarray, level: float) -> float | None:
-    """Interpolated time of the first crossing of ``level`` by ``d[1:]``, or None."""
-    k = int(np.argmax(d[1:] >= level)) + 1
-    if d[k] < level:
+def _crossing(t: np.ndarray, y: np.ndarray, level: float, rising: bool) -> float | None:
+    """Interpolated time of the first sample of ``y[1:]`` at or beyond ``level``
+    (above it when ``rising``), or None. Searched in growing chunks from the start,
+    since crossings come early in a segment."""
+    k = _first(y, level, rising, begin=1)
+    if k is None:
         return None
-    if d[k - 1] >= level:  # already beyond it before the step: report t_step
-        return float(t[k])
-    return _interpolate(t, d, k, level)
+    before = y.item(k - 1)
+    if (before >= level) if rising else (before <= level):
+        return t.item(k)  # already beyond it before the step: report t_step
+    return _interpolate(t, y, k, level)
 
 
-def _interpolate(t: np.ndarray, d: np.ndarray, k: int, level: float) -> float:
+def _first(y: np.ndarray, level: float, rising: bool, *, begin: int) -> int | None:
+    size = FIRST_CHUNK
+    while begin < len(y):
+        chunk = y[begin : begin + size]
+        hits = chunk >= level if rising else chunk <= level
+        k = int(hits.argmax())
+        if hits.item(k):
+            return begin + k
+        begin += size
+        size *= 4
+    return None
+
+
+def _interpolate(t: np.ndarray, y: np.ndarray, k: int, level: float) -> float:
     """Time at which the straight line from sample k-1 to sample k reaches ``level``."""
-    fraction = (level - d[k - 1]) / (d[k] - d[k - 1])
-    return float(t[k - 1] + fraction * (t[k] - t[k - 1]))
+    y0, t0 = y.item(k - 1), t.item(k - 1)
+    return t0 + (level - y0) / (y.item(k) - y0) * (t.item(k) - t0)
 
 
 def _since(instant: float | None, t_step: float, reason: str) -> Figure:
@@ -144,17 +175,33 @@ def _since(instant: float | None, t_step: float, reason: str) -> Figure:
 
 
 def _settling(
-    t: np.ndarray, d: np.ndarray, t_step: float, band: float, *, t_window: float,
+    t: np.ndarray,
+    y: np.ndarray,
+    t_step: float,
+    final: float,
+    half_width: float,
+    *,
+    t_window: float,
+    band_pct: float,
     window_pct: float,
 ) -> Figure:
-    outside = np.abs(d - 1.0) > band
-    j = len(d) - 1 - int(np.argmax(outside[::-1]))
-    if not outside[j]:  # inside the band from before the step on
+    j = _last_outside(y, final, half_width)
+    if j is None:  # inside the band from before the step on
         return Figure(0.0)
-    if j == len(d) - 1:
-        return Figure(None, f"never settles: outside the ±{100 * band:g} % band at the end")
-    if t[j] >= t_window:
-        return Figure(None, f"not settled: leaves the ±{100 * band:g} % band within the last "
-                            f"{window_pct:g} % of the segment, where the final level is taken")
-    edge = 1.0 + band if d[j] > 1.0 else 1.0 - band
-    return Figure(max(0.0, _interpolate(t, d, j + 1, edge) - t_step))
+    if j == len(y) - 1:
+        return Figure(None, f"never settles: outside the ±{band_pct:g} % band at the end")
+    if t.item(j) >= t_window:
+        return Figure(
+            None,
+            f"not settled: leaves the ±{band_pct:g} % band within the last "
+            f"{window_pct:g} % of the segment, where the final level is taken",
+        )
+    edge = final + half_width if y.item(j) > final else final - half_width
+    return Figure(max(0.0, _interpolate(t, y, j + 1, edge) - t_step))
+
+
+def _last_outside(y: np.ndarray, final: float, half_width: float) -> int | None:
+    """Index of the last sample with |y - final| > half_width, or None."""
+    outside = (y > final + half_width) | (y < final - half_width)
+    k = int(outside[::-1].argmax())
+    return None if not outside.item(len(y) - 1 - k) else len(y) - 1 - k

@@ -29,12 +29,14 @@ def find_steps(setpoint: np.ndarray, *, tolerance: float = 1e-6) -> tuple[Step, 
     tolerance: a change counts as a step when it exceeds this fraction of the
         setpoint's full range (max - min); the default only ignores float noise.
     """
-    span = float(setpoint.max() - setpoint.min())
-    if span == 0.0:
+    starts = np.flatnonzero(setpoint[1:] != setpoint[:-1]) + 1
+    if len(starts) == 0:
         return ()
-    starts = np.flatnonzero(np.abs(np.diff(setpoint)) > tolerance * span) + 1
-    ends = np.append(starts[1:], len(setpoint))
-    return tuple(
-        Step(int(s), int(e), float(setpoint[s - 1]), float(setpoint[s]))
-        for s, e in zip(starts, ends, strict=True)
-    )
+    after = setpoint[starts].tolist()
+    before = setpoint[starts - 1].tolist()
+    first = setpoint.item(0)
+    span = max(first, *after) - min(first, *after)  # every value the setpoint takes
+    kept = [(s, b, a) for s, b, a in zip(starts.tolist(), before, after, strict=True)
+            if abs(a - b) > tolerance * span]
+    ends = [s for s, _, _ in kept[1:]] + [len(setpoint)]
+    return tuple(Step(s, e, b, a) for (s, b, a), e in zip(kept, ends, strict=True))

@@ -96,8 +96,11 @@ def analyze_file(path: str, columns: _Columns, settings: AnalysisSettings) -> Fi
 
     try:
         trace = trace_from_table(
-            read_table(path), time=columns.time, setpoint=columns.setpoint,
-            feedback=columns.feedback, effort=columns.effort,
+            read_table(path),
+            time=columns.time,
+            setpoint=columns.setpoint,
+            feedback=columns.feedback,
+            effort=columns.effort,
         )
         analysis = analyze_trace(trace, settings=settings)
     except InputError as exc:
@@ -115,12 +118,22 @@ def _reports(
     paths: list[str], columns: _Columns, settings: AnalysisSettings
 ) -> Iterator[FileReport]:
     """Reports in input order; a worker pool for large batches on several cores."""
-    workers = min(len(os.sched_getaffinity(0)), len(paths) // CHUNK)
-    if len(paths) < PARALLEL_FROM or workers < 2 or "fork" not in (
-            multiprocessing.get_all_start_methods()):
+    cores = len(os.sched_getaffinity(0)) if hasattr(os, "sched_getaffinity") else (
+        os.cpu_count() or 1)
+    workers = min(cores, len(paths) // CHUNK)
+    if (
+        len(paths) < PARALLEL_FROM
+        or workers < 2
+        or "fork" not in (multiprocessing.get_all_start_methods())
+    ):
         yield from (analyze_file(path, columns, settings) for path in paths)
         return
-    # fork: workers inherit the imported modules instead of importing them again.
+    # fork: workers inherit the parent's modules; import the slow ones here once
+    # rather than in every worker.
+    import scipy.optimize  # noqa: F401
+
+    from logbook.ingest import reader  # noqa: F401
+
     with multiprocessing.get_context("fork").Pool(workers) as pool:
         jobs = ((path, columns, settings) for path in paths)
         yield from pool.imap(_analyze_job, jobs, chunksize=CHUNK)
@@ -136,8 +149,7 @@ def _print_report(report: FileReport) -> None:
     rows = []
     for name, info in METRICS.items():
         row: dict[str, object] = {"figure": name, "unit": resolve_unit(info.unit, unit)}
-        row |= {label: step.value(name) for label, step in zip(labels, analysis.steps,
-                                                                strict=True)}
+        row |= {label: step.value(name) for label, step in zip(labels, analysis.steps, strict=True)}
         rows.append(row)
     print_table(rows, ["figure", "unit", *labels])
     for step in analysis.steps:
