@@ -37,7 +37,9 @@ def pg_url() -> Iterator[str]:
     """A fresh, empty PostgreSQL database, dropped after the test."""
     server = _pg_server_url()
     if server is None:
-        pytest.skip(f"PostgreSQL tests need {PG_ENV} (e.g. postgresql+psycopg://postgres@127.0.0.1:5432/test)")
+        pytest.skip(
+            f"PostgreSQL tests need {PG_ENV} (e.g. postgresql+psycopg://postgres@127.0.0.1:5432/test)"
+        )
     name = f"logbook_test_{uuid.uuid4().hex[:12]}"
     admin = create_engine(make_url(server), isolation_level="AUTOCOMMIT")
     with admin.connect() as connection:

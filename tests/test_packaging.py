@@ -20,7 +20,9 @@ def test_migrations_found_from_the_checkout() -> None:
 
 
 def test_every_package_is_listed_in_pyproject() -> None:
-    listed = set(tomllib.loads((ROOT / "pyproject.toml").read_text())["tool"]["setuptools"]["packages"])
+    listed = set(
+        tomllib.loads((ROOT / "pyproject.toml").read_text())["tool"]["setuptools"]["packages"]
+    )
     found = {
         ".".join(p.parent.relative_to(ROOT).parts) for p in (ROOT / "logbook").rglob("__init__.py")
     }
@@ -31,8 +33,18 @@ def test_every_package_is_listed_in_pyproject() -> None:
 def test_installed_wheel_creates_a_database(tmp_path: Path) -> None:
     wheel_dir = tmp_path / "wheel"
     subprocess.run(
-        [sys.executable, "-m", "pip", "wheel", "--no-deps", "--no-build-isolation", "-q", "-w",
-         str(wheel_dir), str(ROOT)],
+        [
+            sys.executable,
+            "-m",
+            "pip",
+            "wheel",
+            "--no-deps",
+            "--no-build-isolation",
+            "-q",
+            "-w",
+            str(wheel_dir),
+            str(ROOT),
+        ],
         check=True,
     )
     wheel = next(wheel_dir.glob("*.whl"))
@@ -44,12 +56,18 @@ def test_installed_wheel_creates_a_database(tmp_path: Path) -> None:
     elsewhere.mkdir()
     where = subprocess.run(
         [str(python), "-c", "import logbook.store.migrate as m; print(m.migrations_dir())"],
-        cwd=elsewhere, capture_output=True, text=True, check=True,
+        cwd=elsewhere,
+        capture_output=True,
+        text=True,
+        check=True,
     ).stdout.strip()
     assert str(venv) in where, f"migrations came from {where}, not the installed wheel"
     result = subprocess.run(
         [str(venv / "bin" / "logbook"), "init", "--db", "wheel.db"],
-        cwd=elsewhere, capture_output=True, text=True, check=False,
+        cwd=elsewhere,
+        capture_output=True,
+        text=True,
+        check=False,
     )
     assert result.returncode == 0, result.stderr
     assert "schema 0001" in result.stdout
