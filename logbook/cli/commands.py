@@ -28,3 +28,7 @@ def register_commands(group: click.Group) -> None:
 
     group.add_command(specs.spec_group)
     group.add_command(report.report_command)
+
+    from logbook.cli import ui
+
+    group.add_command(ui.ui_command)
