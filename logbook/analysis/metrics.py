@@ -140,15 +140,15 @@ def _trapezoid(values: np.ndarray, dt: np.ndarray) -> float:
 
 def _crossing(t: np.ndarray, y: np.ndarray, level: float, rising: bool) -> float | None:
     """Interpolated time of the first sample of ``y[1:]`` at or beyond ``level``
-    (above it when ``rising``), or None. Searched in growing chunks from the start,
-    since crossings come early in a segment."""
+    (above it when ``rising``), or None; never earlier than t_step = t[1]. Searched
+    in growing chunks from the start, since crossings come early in a segment."""
     k = _first(y, level, rising, begin=1)
     if k is None:
         return None
     before = y.item(k - 1)
     if (before >= level) if rising else (before <= level):
         return t.item(k)  # already beyond it before the step: report t_step
-    return _interpolate(t, y, k, level)
+    return max(t.item(1), _interpolate(t, y, k, level))
 
 
 def _first(y: np.ndarray, level: float, rising: bool, *, begin: int) -> int | None:

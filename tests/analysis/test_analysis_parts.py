@@ -88,3 +88,14 @@ def test_step_analysis_is_read_only_picklable_and_checked():
 def test_bad_settings(kwargs, match):
     with pytest.raises(ValueError, match=match):
         AnalysisSettings(**kwargs)
+
+
+def test_crossings_before_the_logged_step_count_from_the_step():
+    # Sampled every 0.1 s, the feedback is already half-way at the first sample with
+    # the new setpoint: the interpolated 10 % crossing would fall before t_step; it
+    # is reported at t_step, and the rise time is measured from there too.
+    t = np.array([0.0, 0.1, 0.2, 0.3, 0.4])
+    (step,) = analyze_arrays(t, [0, 1, 1, 1, 1], [0.0, 0.5, 0.9, 1.0, 1.0]).steps
+    assert step.value("rise_start_s") == 0.0
+    assert step.value("delay_time_s") == pytest.approx(0.0, abs=1e-15)
+    assert step.value("rise_time_s") == pytest.approx(0.1, abs=1e-15)  # 0.9 reached at 0.2 s
