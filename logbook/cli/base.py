@@ -98,6 +98,9 @@ def fail(message: str) -> None:
 def open_logbook(db: str | None, *, check_schema: bool = True) -> Database:
     """Open the chosen database; unless told otherwise insist it is current."""
     database = Database.open(db)
+    context = click.get_current_context(silent=True)
+    if context is not None:  # release pooled connections when the command ends
+        context.call_on_close(database.dispose)
     if check_schema:
         require_current(database)
     return database

@@ -58,11 +58,8 @@ def report_command(
     Example: logbook report --verify x-stage-C.html
     """
     database = open_logbook(db)
-    try:
-        _run(database, axis, revision, spec, spec_version, gains, rule, out, pdf_path,
-             csv_path, issued_by, verify_path)  # fmt: skip
-    finally:
-        database.dispose()
+    _run(database, axis, revision, spec, spec_version, gains, rule, out, pdf_path,
+         csv_path, issued_by, verify_path)  # fmt: skip
 
 
 def _run(

@@ -67,11 +67,8 @@ def spec_add(
     --limit rise_time_s 0.005 0.080 s
     """
     database = open_logbook(db)
-    try:
-        _add(database, name, spec_file, version, test_kind, axes, limits, statistic,
-             required_runs, description)  # fmt: skip
-    finally:
-        database.dispose()
+    _add(database, name, spec_file, version, test_kind, axes, limits, statistic,
+         required_runs, description)  # fmt: skip
 
 
 def _add(
@@ -119,11 +116,8 @@ def spec_list(as_json: bool, db: str | None) -> None:
     Example: logbook spec list --json
     """
     database = open_logbook(db)
-    try:
-        with database.session() as session:
-            rows = [specs.spec_summary(row) for row in specs.list_specs(session)]
-    finally:
-        database.dispose()
+    with database.session() as session:
+        rows = [specs.spec_summary(row) for row in specs.list_specs(session)]
     if as_json:
         print_json(rows)
         return
@@ -145,11 +139,8 @@ def spec_show(name: str, version: str | None, as_json: bool, db: str | None) -> 
     Example: logbook spec show stage-position --version 1.0
     """
     database = open_logbook(db)
-    try:
-        with database.session() as session:
-            row = specs.spec_summary(specs.get_spec(session, name, version))
-    finally:
-        database.dispose()
+    with database.session() as session:
+        row = specs.spec_summary(specs.get_spec(session, name, version))
     if as_json:
         print_json(row)
         return
