@@ -150,13 +150,15 @@ def trend_command(
 @click.command("regressions")
 @_filters
 @click.option("--metric", help="Scan one metric only (default: every metric with a direction).")
-@click.option("--alpha", type=float, default=0.05, show_default=True, help="Familywise level.")
+@click.option(
+    "--alpha", type=float, default=0.05, show_default=True, help="Level of the corrected p."
+)
 @click.option(
     "--correction",
-    type=click.Choice(["holm", "bh"]),
-    default="holm",
+    type=click.Choice(["bh", "holm"]),
+    default="bh",
     show_default=True,
-    help="Multiple-comparison correction over the scan.",
+    help="Correction over every revision x metric of the scan: Benjamini-Hochberg or Holm.",
 )
 @click.option(
     "--threshold",
@@ -233,7 +235,7 @@ def _print_scan(scan: RegressionScan) -> None:
                 "metric": metric,
                 "revision": bad.finding.revision,
                 "parent": bad.finding.parent,
-                "through": "..".join((bad.stretch[0], bad.stretch[-1])),
+                "through": bad.stretch[-1] if len(bad.stretch) > 1 else "-",
                 "fixed_by": ", ".join(bad.fixed_by) or None,
                 "what changed": f"{bad.change_category}: {bad.change_summary}",
                 "gains": ", ".join(

@@ -52,10 +52,15 @@ class ChangePoint:
     """A level shift: runs ``index`` onwards differ from the runs before.
 
     ``index`` is 0-based in the series given (the first run of the new segment);
-    the medians and counts are those of the two segments either side of it.
+    the means, medians and counts are those of the two segments either side of it.
+    The search fits segment means, so ``change`` is the difference of the means;
+    the medians are the robust figures to quote (with coarsely quantised values
+    they can be equal even though the level moved).
     """
 
     index: int
+    mean_before: float
+    mean_after: float
     median_before: float
     median_after: float
     n_before: int
@@ -63,7 +68,7 @@ class ChangePoint:
 
     @property
     def change(self) -> float:
-        return self.median_after - self.median_before
+        return self.mean_after - self.mean_before
 
 
 @dataclass(frozen=True)
@@ -128,10 +133,19 @@ def find_change_points(
     searched = x if outlier_k is None else _without_outliers(x, s, min_size, outlier_k)
     cuts = pelt_l2(searched, penalty=penalty, min_size=min_size)
     edges = [0, *cuts, n]
-    medians = [float(np.median(x[a:b])) for a, b in zip(edges[:-1], edges[1:], strict=True)]
-    lengths = np.diff(edges)
+    segments = [x[a:b] for a, b in zip(edges[:-1], edges[1:], strict=True)]
+    means = [float(np.mean(v)) for v in segments]
+    medians = [float(np.median(v)) for v in segments]
     points = tuple(
-        ChangePoint(cut, medians[i], medians[i + 1], int(lengths[i]), int(lengths[i + 1]))
+        ChangePoint(
+            cut,
+            means[i],
+            means[i + 1],
+            medians[i],
+            medians[i + 1],
+            segments[i].size,
+            segments[i + 1].size,
+        )
         for i, cut in enumerate(cuts)
     )
     return ChangePointScan(points, n, s, penalty)

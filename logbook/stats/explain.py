@@ -9,6 +9,9 @@ two revisions say why: zeta fell (the loop lost damping: more overshoot and
 ringing) or omega_n fell (it lost bandwidth: slower everywhere, same shape), or
 both.
 
+:func:`second_order_figures` gives those textbook figures for a (zeta, omega_n) pair,
+so an explanation can say what overshoot the fitted damping implies.
+
 "Lost" and "gained" here need a finding (a "worse" or "better" verdict, i.e.
 significant after correction and beyond the practical threshold) and follow the
 sign of the change in median, whichever direction the caller called better.
@@ -16,6 +19,7 @@ sign of the change in median, whichever direction the caller called better.
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass
 
 from logbook.errors import InputError
@@ -25,6 +29,47 @@ LOST = "lost"
 GAINED = "gained"
 UNCHANGED = "unchanged"
 UNKNOWN = "unknown"  # not tested (no fit, no baseline, too few runs)
+
+
+@dataclass(frozen=True)
+class SecondOrderFigures:
+    """Step-response figures of an underdamped second-order loop (Ogata ch. 5).
+
+    overshoot_pct: Mp = 100 exp(-zeta pi / sqrt(1 - zeta^2));
+    peak_time_s: pi / omega_d with omega_d = omega_n sqrt(1 - zeta^2);
+    rise_time_0_100_s: 0-100 % rise time (pi - arccos zeta) / omega_d (not the
+        catalogue's 10-90 % rise_time_s);
+    settling_time_s: 2 % band, envelope approximation 4 / (zeta omega_n).
+    """
+
+    zeta: float
+    wn_rad_s: float
+    overshoot_pct: float
+    peak_time_s: float
+    rise_time_0_100_s: float
+    settling_time_s: float
+
+    def metrics(self) -> dict[str, float]:
+        """The figures that have a catalogue name, keyed by it."""
+        return {
+            name: getattr(self, name)
+            for name in ("zeta", "wn_rad_s", "overshoot_pct", "peak_time_s", "settling_time_s")
+        }
+
+
+def second_order_figures(zeta: float, wn: float) -> SecondOrderFigures:
+    """The figures above for 0 < zeta < 1 and omega_n > 0 (else InputError)."""
+    if not (0.0 < zeta < 1.0 and wn > 0.0):
+        raise InputError(f"need 0 < zeta < 1 and wn > 0 for an underdamped loop; got {zeta}, {wn}")
+    wd = wn * math.sqrt(1.0 - zeta * zeta)
+    return SecondOrderFigures(
+        zeta=zeta,
+        wn_rad_s=wn,
+        overshoot_pct=100.0 * math.exp(-zeta * math.pi / math.sqrt(1.0 - zeta * zeta)),
+        peak_time_s=math.pi / wd,
+        rise_time_0_100_s=(math.pi - math.acos(zeta)) / wd,
+        settling_time_s=4.0 / (zeta * wn),
+    )
 
 
 @dataclass(frozen=True)
@@ -84,4 +129,10 @@ def _sentence(quality: str, metric: str, movement: str, verdict: RevisionVerdict
     if movement == UNCHANGED:
         return f"{quality} unchanged ({figures})"
     noun = "loss" if movement == LOST else "gain"
-    return f"{noun} of {quality} ({figures}, adjusted p = {verdict.p_adjusted:.2g})"
+    sentence = f"{noun} of {quality} ({figures}, adjusted p = {verdict.p_adjusted:.2g}"
+    if metric == "zeta" and all(0.0 < z < 1.0 for z in (c.median_before, c.median_after)):
+        before, after = (
+            second_order_figures(z, 1.0).overshoot_pct for z in (c.median_before, c.median_after)
+        )
+        sentence += f"; a second-order loop overshoots {before:.3g} % -> {after:.3g} %"
+    return sentence + ")"

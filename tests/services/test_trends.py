@@ -3,7 +3,6 @@ catalogue and store API (also used by the regression tests)."""
 
 from __future__ import annotations
 
-import math
 from collections.abc import Iterator, Sequence
 from contextlib import contextmanager
 from datetime import UTC, datetime, timedelta
@@ -18,6 +17,7 @@ from logbook.analysis.settings import AnalysisSettings
 from logbook.errors import InputError, NotFoundError
 from logbook.services import catalog
 from logbook.services.trends import metric_trend, trend_summary
+from logbook.stats.explain import second_order_figures
 from logbook.store.engine import Database
 from logbook.store.models import Spec, SpecAxis, SpecLimit, TestRun
 from logbook.store.runs import RunConditions, RunEvidence, add_run, save_analysis
@@ -33,6 +33,7 @@ REVISIONS = [
     ("E", "D", "mechanical", "stiff coupling refitted"),
 ]
 # Damping ratio per revision: C's coupling costs damping, E restores it; omega_n stays.
+# Overshoot, settling and peak time follow from them (Ogata ch. 5 relations).
 ZETA = {"A": 0.69, "B": 0.69, "C": 0.52, "D": 0.52, "E": 0.69}
 WN_RAD_S = 60.0
 START = datetime(2026, 3, 2, 9, 0, tzinfo=UTC)
@@ -40,22 +41,9 @@ BASE_GAINS = catalog.GainParams(kp=2.0, ki=10.0, kd=0.01, loop_rate_hz=1000.0)
 HOT_GAINS = catalog.GainParams(kp=2.0, ki=40.0, kd=0.01, loop_rate_hz=1000.0)
 
 
-def second_order_figures(zeta: float, wn: float, amplitude: float = 2.0) -> dict[str, float]:
-    """Figures of an underdamped second-order step response.
-
-    Ogata, Modern Control Engineering, 5th ed., sec. 5-3 (from memory):
-    Mp = exp(-zeta pi / sqrt(1 - zeta^2)); settling (2 %) ~ 4 / (zeta wn);
-    tp = pi / (wn sqrt(1 - zeta^2)).
-    """
-    root = math.sqrt(1.0 - zeta * zeta)
-    return {
-        "zeta": zeta,
-        "wn_rad_s": wn,
-        "overshoot_pct": 100.0 * math.exp(-zeta * math.pi / root),
-        "settling_time_s": 4.0 / (zeta * wn),
-        "peak_time_s": math.pi / (wn * root),
-        "amplitude": amplitude,
-    }
+def story_figures(zeta: float, wn: float) -> dict[str, float]:
+    """Figures of a 2 mm step of a loop that is second order with this zeta and omega_n."""
+    return {**second_order_figures(zeta, wn).metrics(), "amplitude": 2.0}
 
 
 def add_figured_run(
@@ -129,7 +117,7 @@ def build_story(
                 z = zeta[label] + rng.normal(0.0, 0.01)
                 if drift is not None and index >= drift[0]:
                     z += drift[1]
-                figures = second_order_figures(z, WN_RAD_S + rng.normal(0.0, 1.0))
+                figures = story_figures(z, WN_RAD_S + rng.normal(0.0, 1.0))
                 taken = START + timedelta(days=index)
                 ids.append(
                     add_figured_run(
@@ -139,7 +127,7 @@ def build_story(
                 index += 1
         for label in ("B", "C"):
             for k in range(4):
-                figures = second_order_figures(zeta[label] - 0.2 + 0.01 * k, WN_RAD_S)
+                figures = story_figures(zeta[label] - 0.2 + 0.01 * k, WN_RAD_S)
                 taken = START + timedelta(days=index, hours=k + 1)
                 add_figured_run(
                     session, revision=label, gains="hot-integral", taken_at=taken, steps=[figures]

@@ -81,7 +81,11 @@ def test_single_step_in_a_quantised_series_is_found() -> None:
     x[[5, 27]] += 1.0
     scan = find_change_points(x)
     assert scan.indexes == (20,)
-    assert (scan.points[0].median_before, scan.points[0].median_after) == (100.0, 103.0)
+    point = scan.points[0]
+    assert (point.median_before, point.median_after) == (100.0, 103.0)
+    # One extra count in each segment of 20: means 100.05 and 103.05 (by hand).
+    assert (point.mean_before, point.mean_after) == pytest.approx((100.05, 103.05))
+    assert point.change == pytest.approx(3.0)
 
 
 FALSE_ALARM_RATE = 0.05  # stated rate for white noise, series of 100 runs

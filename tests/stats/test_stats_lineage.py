@@ -18,6 +18,7 @@ from logbook.stats.lineage import (
     compare_with_parents,
     lineage_order,
 )
+from logbook.stats.multiple import adjust
 
 CHAIN = [("A", None), ("B", "A"), ("C", "B"), ("D", "C"), ("E", "D"), ("F", "E")]
 
@@ -170,6 +171,27 @@ def test_no_shift_gives_no_finding_at_the_familywise_rate() -> None:
     limit = binom.ppf(0.999, SEEDS, ALPHA)
     assert with_finding <= limit, f"{with_finding} of {SEEDS} null histories had a finding"
     assert raw_significant > limit  # the correction is what keeps the rate down
+
+
+def test_no_shift_gives_no_finding_with_bh_over_several_metrics() -> None:
+    # The regression scan's default: Benjamini-Hochberg over every revision x metric.
+    # When nothing changed, every finding is false, so BH's false discovery rate is the
+    # chance of any finding. Three metrics read from the same runs (correlated, as
+    # overshoot and settling time are), six revisions of ten runs: count seeds with
+    # any finding and allow the 99.9 % quantile of Binomial(200, 0.05).
+    lineage = [("R0", None)] + [(f"R{i}", f"R{i - 1}") for i in range(1, 6)]
+    with_finding = 0
+    for seed in range(SEEDS):
+        rng = np.random.default_rng(1000 + seed)
+        common = {label: rng.normal(size=10) for label, _ in lineage}
+        metrics = [
+            {k: v + rng.normal(0.0, scale, size=10) for k, v in common.items()}
+            for scale in (0.0, 0.5, 2.0)
+        ]
+        comparisons = [compare_with_parents(lineage, m) for m in metrics]
+        p = [c.comparison.p_value for cs in comparisons for c in cs if c.comparison is not None]
+        with_finding += bool((adjust(p, "bh") <= ALPHA).any())
+    assert with_finding <= binom.ppf(0.999, SEEDS, ALPHA), f"{with_finding} of {SEEDS}"
 
 
 def test_lineage_order_puts_parents_first_and_keeps_the_given_order_otherwise() -> None:
