@@ -636,13 +636,8 @@ def latest_verdicts(session: Session) -> pd.DataFrame:
         for spec in newest.values():
             if axis.id not in {a.id for a in spec.axes}:
                 continue
-            usage = session.execute(
-                select(TestRun.gain_set_id, func.count())
-                .where(TestRun.revision_id == latest.id, TestRun.test_kind == spec.test_kind)
-                .group_by(TestRun.gain_set_id)
-                .order_by(func.count().desc(), TestRun.gain_set_id)
-            ).first()
-            gains = trends.gain_labels(session, [usage[0]])[usage[0]] if usage else None
+            usage = revision_gains(session, axis.name, latest.label, test_kind=spec.test_kind)
+            gains = next(iter(usage), None)
             result = evaluation(
                 session,
                 axis=axis.name,
@@ -667,6 +662,22 @@ def latest_verdicts(session: Session) -> pd.DataFrame:
                 }
             )
     return pd.DataFrame(rows, columns=VERDICT_COLUMNS)
+
+
+def revision_gains(
+    session: Session, axis_name: str, revision: str, *, test_kind: str | None = None
+) -> dict[str, int]:
+    """The gain sets run on a revision (of ``test_kind``, if given) -> their run count,
+    the most used first (ties: the oldest gain set first)."""
+    row = catalog.get_revision(session, axis_name, revision)
+    query = select(TestRun.gain_set_id, func.count()).where(TestRun.revision_id == row.id)
+    if test_kind is not None:
+        query = query.where(TestRun.test_kind == test_kind)
+    usage = session.execute(
+        query.group_by(TestRun.gain_set_id).order_by(func.count().desc(), TestRun.gain_set_id)
+    ).all()
+    labels = trends.gain_labels(session, [gid for gid, _ in usage])
+    return {labels[gid]: int(n) for gid, n in usage}
 
 
 def _latest_revision(axis: Axis) -> HardwareRevision | None:

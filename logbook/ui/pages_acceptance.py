@@ -27,7 +27,6 @@ from logbook.ui.common import (
     verdict_badge,
 )
 
-ONLY_GAINS = "(the revision's only gain set)"
 ISSUED_KEY = "acceptance_issued"
 
 
@@ -55,19 +54,27 @@ def choose() -> dict[str, object] | None:
     spec_index = cols[1].selectbox(
         "Spec", range(len(labels)), format_func=labels.__getitem__, key=f"acceptance_spec_{axis}"
     )
+    spec = spec_rows.iloc[spec_index]
+    used = read(views.revision_gains, axis, revision, test_kind=str(spec["test_kind"]))
+    if not used:
+        st.info(f"Revision {revision} has no {spec['test_kind']} runs to judge.")
+        return None
     gains = cols[2].selectbox(
-        "Gain set", [ONLY_GAINS, *choices.gains], key=f"acceptance_gains_{axis}"
+        "Gain set",
+        list(used),
+        format_func=lambda g: f"{g} ({used[g]} runs)",
+        key=f"acceptance_gains_{axis}_{revision}",
+        help="the gain sets run on this revision, the most used first",
     )
     rule = cols[3].radio(
         "Decision rule", [r.value for r in DecisionRule], key="acceptance_rule", horizontal=True
     )
-    spec = spec_rows.iloc[spec_index]
     return {
         "axis": axis,
         "revision": revision,
         "spec": str(spec["spec"]),
         "version": str(spec["version"]),
-        "gains": None if gains == ONLY_GAINS else gains,
+        "gains": gains,
         "rule": DecisionRule(rule),
     }
 

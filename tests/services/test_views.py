@@ -35,7 +35,7 @@ def test_the_run_table_carries_each_runs_figures(bench: Database) -> None:
     with bench.session() as session:
         table = views.run_table(session, views.RunFilter("x-stage"))
     frame = table.frame
-    assert len(frame) == 13
+    assert len(frame) == 19
     assert list(frame["taken_at"]) == sorted(frame["taken_at"], reverse=True)  # newest first
     assert table.units["rise_time_s"] == "s" and table.units["steady_state_error"] == "mm"
     tau = frame["revision"].map(TAU)
@@ -55,12 +55,12 @@ def test_run_filters_combine_and_date_bounds_are_inclusive(bench: Database) -> N
                 views.run_table(session, views.RunFilter("x-stage", **given)).frame["run_id"]
             )
 
-        assert len(ids(revision="B")) == 5
-        assert len(ids(gains="base", operator="dana")) == 5  # revision A
+        assert len(ids(revision="B")) == 8
+        assert len(ids(gains="base", operator="dana")) == 8  # revision A
         assert len(ids(gains="stiff", operator="lee")) == 0
         one_day = ids(since=date(2026, 3, 11), until=date(2026, 3, 11))
         assert len(one_day) == 1
-        assert len(ids(since=date(2026, 4, 1))) == 8  # B and C
+        assert len(ids(since=date(2026, 4, 1))) == 11  # B and C
         with pytest.raises(NotFoundError, match="unknown revision 'Z'"):
             ids(revision="Z")
 
@@ -75,10 +75,10 @@ def test_choices_summary_and_revision_table(bench: Database) -> None:
     assert choices.gains == ("base", "stiff") and choices.operators == ("dana", "lee")
     assert (choices.first_day, choices.last_day) == (date(2026, 3, 10), date(2026, 5, 12))
     assert summary.loc["x-stage", "latest_revision"] == "C"  # the newest revision date
-    assert summary.loc["x-stage", "runs"] == 13 and summary.loc["y-stage", "runs"] == 2
+    assert summary.loc["x-stage", "runs"] == 19 and summary.loc["y-stage", "runs"] == 2
     assert list(revisions["parent"].fillna("-")) == ["-", "A", "B"]
-    assert list(revisions["runs"]) == [5, 5, 3]
-    assert gains.loc["base", "runs"] == 12 and gains.loc["stiff", "kp"] == 4.0
+    assert list(revisions["runs"]) == [8, 8, 3]
+    assert gains.loc["base", "runs"] == 18 and gains.loc["stiff", "kp"] == 4.0
 
 
 def test_the_data_version_changes_when_rows_are_added(bench: Database, tmp_path: Path) -> None:
@@ -95,7 +95,7 @@ def test_the_data_version_changes_when_rows_are_added(bench: Database, tmp_path:
 def test_an_opened_run_has_its_samples_and_step_figures(bench: Database) -> None:
     with bench.session() as session:
         run = views.open_run(session, 1)
-        other = views.open_run(session, 6)
+        other = views.open_run(session, 10)
         with pytest.raises(NotFoundError, match="no run 999"):
             views.open_run(session, 999)
     assert len(run.time) == len(run.setpoint) == len(run.feedback) == 300

@@ -25,8 +25,8 @@ from tests.services.capture_files import write_capture
 SPEC_NAME = "x-stage-step"
 #: (axis, revision, gains, operator, tau in s, runs) for each group of captures.
 GROUPS = (
-    ("x-stage", "A", "base", "dana", 0.020, 5),
-    ("x-stage", "B", "base", "lee", 0.030, 5),
+    ("x-stage", "A", "base", "dana", 0.020, 8),
+    ("x-stage", "B", "base", "lee", 0.030, 8),
     ("x-stage", "C", "stiff", "dana", 0.020, 3),
     ("y-stage", "R1", "base", "lee", 0.025, 2),
 )

@@ -44,9 +44,9 @@ def test_an_outdated_logbook_asks_for_an_upgrade(
     ("page", "expected"),
     [
         ("pages_overview.py", "Latest revision **C**: 3 runs"),
-        ("pages_runs.py", "13 runs; tick rows"),
-        ("pages_trends.py", "10 runs of x-stage, position_step, gain set base"),
-        ("pages_acceptance.py", "Runs judged (3): run 11, run 12, run 13"),
+        ("pages_runs.py", "19 runs; tick rows"),
+        ("pages_trends.py", "16 runs of x-stage, position_step, gain set base"),
+        ("pages_acceptance.py", "Runs judged (3): run 17, run 18, run 19"),
         ("pages_import.py", "Import"),
         ("pages_setup.py", "Add an axis"),
     ],

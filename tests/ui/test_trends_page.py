@@ -14,7 +14,7 @@ def test_a_slower_revision_is_marked_as_the_first_bad_one(app: AppTest) -> None:
     by_revision, by_date = plotly_specs(at)
     boxes = [trace for trace in by_revision["data"] if trace["type"] == "box"]
     assert [b["name"] for b in boxes] == ["A", "B"]  # the reference gain set ran on A and B
-    assert [len(values(b["y"])) for b in boxes] == [5, 5]
+    assert [len(values(b["y"])) for b in boxes] == [8, 8]
     notes = [a["text"] for a in by_revision["layout"]["annotations"]]
     assert any(n.startswith("<b>first bad</b> vs A") for n in notes)
     # Spec limit 0.1 s, drawn as a line with its spec's name.
@@ -39,4 +39,4 @@ def test_the_gain_set_and_metric_choices_change_the_chart(app: AppTest) -> None:
     rerun(at)
     boxes = [t for t in plotly_specs(at)[0]["data"] if t["type"] == "box"]
     assert [b["name"] for b in boxes] == ["A", "B", "C"]
-    assert "13 runs of x-stage" in texts(at)
+    assert "19 runs of x-stage" in texts(at)
