@@ -47,7 +47,7 @@ def run_json(run: TestRun) -> dict[str, Any]:
 
 
 def gain_label(gain_set: GainSet) -> str:
-    return gain_set.name or f"#{gain_set.id}"
+    return catalog.gain_label(gain_set.name, gain_set.id)
 
 
 # --- axis ------------------------------------------------------------------------

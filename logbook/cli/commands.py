@@ -32,3 +32,7 @@ def register_commands(group: click.Group) -> None:
     from logbook.cli import ui
 
     group.add_command(ui.ui_command)
+
+    from logbook.cli import demo
+
+    group.add_command(demo.demo_command)

@@ -106,7 +106,7 @@ def resolve_case(
         ids = sorted({r.gain_set_id for r in runs if r.test_kind == spec_row.test_kind})
         if len(ids) > 1:
             rows = [session.get_one(GainSet, i) for i in ids]
-            names = ", ".join(g.name or f"#{g.id}" for g in rows)
+            names = ", ".join(catalog.gain_label(g.name, g.id) for g in rows)
             raise InputError(
                 f"the {spec_row.test_kind} runs of revision {revision_row.label} use several"
                 f" gain sets ({names}); choose one with --gains"

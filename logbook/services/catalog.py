@@ -342,6 +342,11 @@ def gain_params(row: GainSet) -> GainParams:
     )
 
 
+def gain_label(name: str | None, gain_set_id: int) -> str:
+    """A gain set's name, or ``#id`` for an unnamed one (as ``logbook gains list`` shows it)."""
+    return name or f"#{gain_set_id}"
+
+
 def list_gain_sets(session: Session) -> list[GainSet]:
     return list(session.scalars(select(GainSet).order_by(GainSet.name, GainSet.id)))
 

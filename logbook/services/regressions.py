@@ -59,7 +59,6 @@ from logbook.errors import InputError
 from logbook.services import catalog
 from logbook.services.trends import (
     RunSelection,
-    gain_label,
     require_metric,
     revision_labels,
     run_values,
@@ -653,7 +652,7 @@ def _unit(values: pd.DataFrame, metric: str) -> str | None:
 
 
 def _gain_name(gain_set: GainSet | None) -> str | None:
-    return None if gain_set is None else gain_label(gain_set.name, gain_set.id)
+    return None if gain_set is None else catalog.gain_label(gain_set.name, gain_set.id)
 
 
 def _third(item: tuple[str, str | None, int]) -> int:

@@ -335,15 +335,10 @@ def revision_labels(axis: Axis) -> dict[int, tuple[str, str | None, int]]:
     }
 
 
-def gain_label(name: str | None, gain_set_id: int) -> str:
-    """A gain set's name, or ``#id`` for an unnamed one (as ``logbook gains list`` shows it)."""
-    return name or f"#{gain_set_id}"
-
-
 def gain_labels(session: Session, ids: Sequence[int]) -> dict[int, str]:
-    """gain set id -> :func:`gain_label`."""
+    """gain set id -> :func:`~logbook.services.catalog.gain_label`."""
     rows = session.execute(select(GainSet.id, GainSet.name).where(GainSet.id.in_(list(ids))))
-    return {gid: gain_label(name, gid) for gid, name in rows}
+    return {gid: catalog.gain_label(name, gid) for gid, name in rows}
 
 
 def _trend_frame(session: Session, selection: RunSelection, runs: pd.DataFrame) -> pd.DataFrame:
