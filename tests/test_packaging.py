@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import json
 import subprocess
 import sys
 import tomllib
@@ -30,7 +31,7 @@ def test_every_package_is_listed_in_pyproject() -> None:
 
 
 @pytest.mark.slow
-def test_installed_wheel_creates_a_database(tmp_path: Path) -> None:
+def test_installed_wheel_creates_a_database_and_the_demo(tmp_path: Path) -> None:
     wheel_dir = tmp_path / "wheel"
     subprocess.run(
         [
@@ -71,3 +72,13 @@ def test_installed_wheel_creates_a_database(tmp_path: Path) -> None:
     )
     assert result.returncode == 0, result.stderr
     assert "schema 0001" in result.stdout
+    demo = subprocess.run(
+        [str(venv / "bin" / "logbook"), "demo", "--db", "demo.db"],
+        cwd=elsewhere,
+        capture_output=True,
+        text=True,
+        check=False,
+    )
+    assert demo.returncode == 0, demo.stderr
+    captures = len(json.loads((ROOT / "demo_data" / "scenario.json").read_text())["captures"])
+    assert f"{captures} captures imported" in demo.stdout, "the demo data must ship in the wheel"
