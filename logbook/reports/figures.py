@@ -46,7 +46,7 @@ def step_figure(plot: StepPlot) -> go.Figure:
             fillcolor=_RISE_FILL,
             line_width=0,
             annotation_text=f"rise {marks.rise_low:.0%}–{marks.rise_high:.0%}",
-            annotation_position="top left",
+            annotation_position="bottom left",
         )
     if marks.final is not None and marks.amplitude is not None:
         half = marks.band * abs(marks.amplitude)
