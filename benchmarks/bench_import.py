@@ -12,11 +12,18 @@ then measures in the same run, on the same files:
 
 Prints rows per second for both and their ratio. Target: the whole import at
 least half as fast as parsing alone (ratio >= 0.5).
+
+With ``--memory-rows N`` (default 1,000,000) it also imports one N-row file in a
+fresh child process and prints the peak resident memory the import added
+(``ru_maxrss`` after the libraries are loaded, against the peak after the import)
+beside the file's size. Target: under 4x the file's size.
 """
 
 from __future__ import annotations
 
 import argparse
+import subprocess
+import sys
 import tempfile
 import time
 from pathlib import Path
@@ -62,10 +69,55 @@ def write_capture(path: Path, rows: int, seed: int) -> None:
         frame.to_csv(fh, index=False, float_format="%.6g")
 
 
+_MEMORY_CHILD = """
+import gc, resource, sys
+from logbook.ingest.metadata import RunFields
+from logbook.services import catalog
+from logbook.services.importing import ImportRequest, Outcome, import_files
+from logbook.store.config import resolve_url
+from logbook.store.engine import Database
+from logbook.store.migrate import init_database
+import logbook.analysis, scipy.optimize, scipy.signal, pandas, pyarrow.parquet  # loaded before the baseline
+capture, db_path = sys.argv[1], sys.argv[2]
+database = Database(resolve_url(db_path))
+init_database(database)
+with database.session(write=True) as session:
+    catalog.add_axis(session, "x-stage", position_unit="mm", feedback_kind="encoder")
+    catalog.add_revision(session, "x-stage", "A")
+    catalog.add_gain_set(session, catalog.GainParams(kp=8, ki=0, kd=0, loop_rate_hz=10_000), name="bench")
+gc.collect()
+before = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss
+request = ImportRequest(axis="x-stage", gains="bench", run_fields=RunFields(revision="A"))
+[result] = import_files(database, [capture], request)
+assert result.outcome is Outcome.IMPORTED, result.message
+print(before, resource.getrusage(resource.RUSAGE_SELF).ru_maxrss)
+"""
+
+
+def measure_memory(root: Path, rows: int) -> None:
+    """Peak memory added by importing one ``rows``-row file, in a fresh process."""
+    capture = root / "big.csv"
+    write_capture(capture, rows, seed=99)
+    out = subprocess.run(
+        [sys.executable, "-c", _MEMORY_CHILD, str(capture), str(root / "memory.db")],
+        capture_output=True,
+        text=True,
+        check=True,
+    ).stdout.split()
+    before_kib, peak_kib = int(out[0]), int(out[1])
+    size = capture.stat().st_size
+    added = (peak_kib - before_kib) * 1024
+    print(
+        f"memory: {rows:,}-row file {size / 2**20:.1f} MiB; import added {added / 2**20:.1f} MiB "
+        f"of peak RSS = {added / size:.2f}x the file (target < 4x: {'met' if added < 4 * size else 'NOT met'})"
+    )
+
+
 def main() -> None:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--files", type=int, default=10)
     parser.add_argument("--rows", type=int, default=100_000)
+    parser.add_argument("--memory-rows", type=int, default=1_000_000)
     args = parser.parse_args()
 
     with tempfile.TemporaryDirectory() as folder:

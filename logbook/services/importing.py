@@ -16,7 +16,6 @@ checked.
 from __future__ import annotations
 
 import glob
-import hashlib
 from collections.abc import Callable, Iterable, Sequence
 from dataclasses import dataclass, field
 from datetime import UTC, datetime
@@ -42,6 +41,7 @@ from logbook.store.runs import (
     RunConditions,
     RunEvidence,
     add_run,
+    file_digest,
     find_run_by_hash,
     save_analysis,
 )
@@ -201,7 +201,7 @@ def _import(database: Database, path: Path, request: ImportRequest) -> FileResul
         raw = path.read_bytes()
     except OSError as exc:
         raise InputError(f"cannot read the file: {exc.strerror or exc}", file=name) from None
-    digest = hashlib.sha256(raw).hexdigest()
+    digest = file_digest(raw)
 
     with database.session() as session:
         table = _read(session, path, request)
@@ -250,7 +250,7 @@ def _import(database: Database, path: Path, request: ImportRequest) -> FileResul
                     f"{name}: imported meanwhile as run {existing.id}; skipped",
                     run_id=existing.id,
                 )
-            run_id = _write(session, axis.name, name, raw, request, prepared)
+            run_id = _write(session, axis.name, name, raw, digest, request, prepared)
     except IntegrityError:
         return FileResult(
             name, Outcome.DUPLICATE, f"{name}: imported meanwhile by another process; skipped"
@@ -347,6 +347,7 @@ def _write(
     axis_name: str,
     name: str,
     raw: bytes,
+    digest: str,
     request: ImportRequest,
     prepared: _Prepared,
 ) -> int:
@@ -381,6 +382,7 @@ def _write(
         evidence=RunEvidence(
             source_name=Path(name).name,
             raw_bytes=raw,
+            sha256=digest,
             trace=prepared.trace,
             profile_name=None
             if prepared.profile.name == COLUMNS_PROFILE

@@ -11,7 +11,7 @@ from dataclasses import dataclass, field
 from datetime import datetime
 from typing import TYPE_CHECKING
 
-from sqlalchemy import select
+from sqlalchemy import insert, select
 from sqlalchemy.orm import Session
 
 from logbook.analysis.catalog import METRICS, resolve_unit
@@ -55,17 +55,27 @@ class RunConditions:
 
 @dataclass(frozen=True)
 class RunEvidence:
-    """The source file as it arrived and the trace decoded from it."""
+    """The source file as it arrived and the trace decoded from it.
+
+    ``sha256`` is the digest of ``raw_bytes``; pass it when already computed (the
+    importer hashes a file before parsing it, to skip duplicates).
+    """
 
     source_name: str
     raw_bytes: bytes
     trace: Trace
     profile_name: str | None = None
     data_quality: dict[str, float] = field(default_factory=dict)
+    sha256: str = ""
 
-    @property
-    def sha256(self) -> str:
-        return hashlib.sha256(self.raw_bytes).hexdigest()
+    def __post_init__(self) -> None:
+        if not self.sha256:
+            object.__setattr__(self, "sha256", file_digest(self.raw_bytes))
+
+
+def file_digest(data: bytes) -> str:
+    """The SHA-256 of a source file's bytes, as stored with its run."""
+    return hashlib.sha256(data).hexdigest()
 
 
 def find_run_by_hash(session: Session, axis: Axis, sha256: str) -> TestRun | None:
@@ -177,18 +187,18 @@ def save_analysis(session: Session, run: TestRun, analysis: TraceAnalysis) -> in
     )
     feedback_unit = feedback or ""
     rows = [
-        AnalysisResult(
-            run_id=run.id,
-            settings_id=settings.id,
-            step_index=step.index,
-            metric=name,
-            value=figure.value,
-            unit=resolve_unit(METRICS[name].unit, feedback_unit) if name in METRICS else "",
-            reason=figure.reason,
-        )
+        {
+            "run_id": run.id,
+            "settings_id": settings.id,
+            "step_index": step.index,
+            "metric": name,
+            "value": figure.value,
+            "unit": resolve_unit(METRICS[name].unit, feedback_unit) if name in METRICS else "",
+            "reason": figure.reason,
+        }
         for step in analysis.steps
         for name, figure in step.figures.items()
     ]
-    session.add_all(rows)
-    session.flush()
+    if rows:  # one executemany, not an ORM object per figure
+        session.execute(insert(AnalysisResult), rows)
     return len(rows)
