@@ -379,7 +379,7 @@ def gain_table(session: Session) -> pd.DataFrame:
     )
     rows = [
         {
-            "gains": trends.gain_label(g.name, g.id),
+            "gains": catalog.gain_label(g.name, g.id),
             "kp": g.kp,
             "ki": g.ki,
             "kd": g.kd,
@@ -479,7 +479,7 @@ def open_run(
         axis=run.axis.name,
         revision=revision[0],
         lineage_index=revision[2],
-        gains=trends.gain_label(run.gain_set.name, run.gain_set_id),
+        gains=catalog.gain_label(run.gain_set.name, run.gain_set_id),
         test_kind=run.test_kind,
         taken_at=run.taken_at,
         operator=run.operator,
@@ -682,3 +682,15 @@ def revision_gains(
 
 def _latest_revision(axis: Axis) -> HardwareRevision | None:
     return max(axis.revisions, key=lambda r: (r.revision_date or date.min, r.id), default=None)
+
+
+def judged_metrics(session: Session, axis_name: str) -> tuple[str, ...]:
+    """The metrics limited by any spec covering ``axis_name``, in catalogue order."""
+    axis = catalog.get_axis(session, axis_name)
+    limited = {
+        limit.metric
+        for row in specs.list_specs(session)
+        if axis.id in {a.id for a in row.axes}
+        for limit in row.limits
+    }
+    return tuple(name for name in METRICS if name in limited)

@@ -24,17 +24,17 @@ from sqlalchemy.orm import Session
 from logbook.acceptance.rules import Verdict
 from logbook.analysis.catalog import METRICS
 from logbook.errors import ConfigError, LogbookError
-from logbook.services import catalog, trends, views
+from logbook.services import catalog, views
 from logbook.store.config import ENV_VAR, resolve_url
 from logbook.store.engine import Database
 from logbook.store.migrate import require_current
 
 T = TypeVar("T")
-VERDICT_COLOURS = {
-    Verdict.PASS: "green",
-    Verdict.CONDITIONAL_PASS: "yellow",
-    Verdict.CONDITIONAL_FAIL: "orange",
-    Verdict.FAIL: "red",
+VERDICT_COLOURS: dict[str, str] = {
+    Verdict.PASS.value: "green",
+    Verdict.CONDITIONAL_PASS.value: "yellow",
+    Verdict.CONDITIONAL_FAIL.value: "orange",
+    Verdict.FAIL.value: "red",
 }
 UI_DIR = Path(__file__).resolve().parent
 
@@ -154,14 +154,15 @@ def axis_names(session: Session) -> list[str]:
     return [axis.name for axis in catalog.list_axes(session)]
 
 
-def verdict_badge(verdict: str) -> None:
-    """A coloured label for a verdict; undetermined ones (no data, too few runs) grey."""
-    st.badge(verdict, color=VERDICT_COLOURS.get(Verdict(verdict), "gray"))
+def verdict_badge(verdict: str) -> str:
+    """Markdown of a coloured label for a verdict; undetermined ones (no data, too few
+    runs, wrong test kind) grey."""
+    return f":{VERDICT_COLOURS.get(verdict, 'gray')}-badge[{verdict}]"
 
 
 def gain_names(session: Session) -> list[str]:
     """The gain sets as the pages name them (``#id`` for unnamed ones)."""
-    return [trends.gain_label(g.name, g.id) for g in catalog.list_gain_sets(session)]
+    return [catalog.gain_label(g.name, g.id) for g in catalog.list_gain_sets(session)]
 
 
 _FLASH_KEY = "flash_message"

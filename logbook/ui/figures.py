@@ -12,7 +12,7 @@ The figures reference no web resources: Streamlit ships the Plotly library.
 from __future__ import annotations
 
 import html
-from collections.abc import Sequence
+from collections.abc import Mapping, Sequence
 
 import numpy as np
 import pandas as pd
@@ -65,7 +65,10 @@ def _bracket(unit: str) -> str:
 def step_response_figure(run: OpenedRun, step: int = 0) -> go.Figure:
     """The run's setpoint, feedback (and effort, when recorded) against time, with the
     figures of step ``step`` marked: the rise interval shaded, the peak, the settling
-    band with the settling time, and the steady-state error at the end of the step."""
+    band with the settling time, and the steady-state error at the end of the step.
+
+    The time axis opens on that step's transient (:func:`transient_window`);
+    double-clicking the plot shows the whole trace."""
     with_effort = run.effort is not None
     fig = make_subplots(
         rows=2 if with_effort else 1,
@@ -103,7 +106,14 @@ def step_response_figure(run: OpenedRun, step: int = 0) -> go.Figure:
         )
         fig.update_yaxes(title_text=f"effort{_bracket(run.effort_unit)}", row=2, col=1)
     if 0 <= step < len(run.steps):
-        _mark_step(fig, run, step)
+        window = transient_window(run.steps[step])
+        t_step = run.steps[step].get("t_step_s")
+        view_end = float(run.time[-1])
+        if window is not None and t_step is not None:
+            view_end = min(view_end, t_step + window)
+            start = max(float(run.time[0]), t_step - 0.3 * window)
+            fig.update_xaxes(range=[start, view_end])
+        _mark_step(fig, run, step, view_end)
     fig.update_xaxes(title_text="time [s]", row=2 if with_effort else 1, col=1)
     fig.update_yaxes(title_text=f"position{_bracket(run.feedback_unit)}", row=1, col=1)
     if run.test_kind == "speed_step":
@@ -117,13 +127,15 @@ def step_response_figure(run: OpenedRun, step: int = 0) -> go.Figure:
     return fig
 
 
-def _mark_step(fig: go.Figure, run: OpenedRun, step: int) -> None:
+def _mark_step(fig: go.Figure, run: OpenedRun, step: int, view_end: float) -> None:
+    """Mark step ``step``; labels at the step's end go no further right than ``view_end``."""
     figures = run.steps[step]
     t_step = figures.get("t_step_s")
     if t_step is None:
         return
     end = run.steps[step + 1].get("t_step_s") if step + 1 < len(run.steps) else None
     end = float(run.time[-1]) if end is None else end
+    label_x = min(end, view_end)
     final, amplitude = figures.get("final"), figures.get("amplitude")
     rise_start, rise_time = figures.get("rise_start_s"), figures.get("rise_time_s")
     if rise_start is not None and rise_time is not None:
@@ -153,7 +165,7 @@ def _mark_step(fig: go.Figure, run: OpenedRun, step: int) -> None:
             col=1,
         )
         fig.add_annotation(
-            x=end,
+            x=label_x,
             y=final + half,
             text=f"±{run.band:.0%} settling band",
             showarrow=False,
@@ -181,7 +193,7 @@ def _mark_step(fig: go.Figure, run: OpenedRun, step: int) -> None:
             unit = run.units.get("steady_state_error", "")
             fig.add_trace(
                 go.Scatter(
-                    x=[end, end],
+                    x=[label_x, label_x],
                     y=[final, target],
                     mode="lines+markers",
                     name=f"steady-state error: {error:.3g}{' ' + text(unit) if unit else ''}",
@@ -204,22 +216,25 @@ def _mark_step(fig: go.Figure, run: OpenedRun, step: int) -> None:
 
 
 def overlay_figure(runs: Sequence[OpenedRun], *, normalise: bool = False) -> go.Figure:
-    """The feedback of several runs on one time axis starting at each run's first step.
+    """The responses of several runs on one time axis starting at each run's first step.
 
-    With ``normalise`` each response is shown as a fraction of its step, (y −
-    initial) / amplitude, so steps of different size compare; otherwise in the
-    feedback unit. Runs of one revision share its colour and differ in dash.
+    Each response is drawn from its level before the step, y − initial, so steps from
+    different positions line up; with ``normalise`` as a fraction of its step,
+    (y − initial) / amplitude, so steps of different size compare too. Runs of one
+    revision share its colour and differ in dash. The time axis opens on the
+    transients (see :func:`transient_window`); double-click shows everything.
     """
     fig = go.Figure()
     seen: dict[int, int] = {}
     units = {run.feedback_unit for run in runs}
+    windows = []
     for run in runs:
         first = run.steps[0] if run.steps else {}
         t_step = first.get("t_step_s") or 0.0
         initial, amplitude = first.get("initial"), first.get("amplitude")
-        y = run.feedback
-        if normalise and initial is not None and amplitude:
-            y = (run.feedback - initial) / amplitude
+        y = run.feedback - (initial or 0.0)
+        if normalise and amplitude:
+            y = y / amplitude
         dash = _DASHES[seen.get(run.lineage_index, 0) % len(_DASHES)]
         seen[run.lineage_index] = seen.get(run.lineage_index, 0) + 1
         fig.add_trace(
@@ -230,12 +245,17 @@ def overlay_figure(runs: Sequence[OpenedRun], *, normalise: bool = False) -> go.
                 line={"color": revision_colour(run.lineage_index), "dash": dash},
             )
         )
+        windows.append(transient_window(first))
     if normalise:
         fig.add_hline(y=1.0, line={"color": SETPOINT_COLOUR, "dash": "dash", "width": 1})
-        y_title = "response [fraction of step]"
+        y_title = "response [fraction of the step]"
     else:
-        y_title = f"feedback{_bracket(units.pop()) if len(units) == 1 else ''}"
+        unit = _bracket(units.pop()) if len(units) == 1 else ""
+        y_title = f"change from the level before the step{unit}"
     fig.add_vline(x=0.0, line={"color": SETPOINT_COLOUR, "width": 1})
+    if windows and all(w is not None for w in windows):
+        longest = max(w for w in windows if w is not None)
+        fig.update_xaxes(range=[-0.2 * longest, longest])
     fig.update_layout(
         xaxis_title="time from the step [s]",
         yaxis_title=y_title,
@@ -243,6 +263,18 @@ def overlay_figure(runs: Sequence[OpenedRun], *, normalise: bool = False) -> go.
         **_LAYOUT,
     )
     return fig
+
+
+def transient_window(figures: Mapping[str, float | None]) -> float | None:
+    """How long after the step a plot should open: three settling times (or, unsettled,
+    ten rise times), so the transient fills the view; None when neither is known."""
+    settling, rise = figures.get("settling_time_s"), figures.get("rise_time_s")
+    start = figures.get("rise_start_s") or 0.0
+    if settling is not None and settling > 0:
+        return 3.0 * settling
+    if rise is not None and rise > 0:
+        return 10.0 * (start + rise)
+    return None
 
 
 # --- trends ---------------------------------------------------------------------------

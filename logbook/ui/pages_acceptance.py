@@ -32,7 +32,9 @@ ISSUED_KEY = "acceptance_issued"
 
 def choose() -> dict[str, object] | None:
     """The choice widgets; the keyword arguments of the evaluation, or None."""
-    axis = axis_picker(read(axis_names))
+    cols = st.columns([1, 1, 2, 1, 1])
+    with cols[0]:
+        axis = axis_picker(read(axis_names))
     if axis is None:
         return None
     spec_rows = read(views.spec_table, axis)
@@ -43,15 +45,14 @@ def choose() -> dict[str, object] | None:
     if not choices.revisions:
         st.info(f"Axis {axis} has no revisions yet.")
         return None
-    cols = st.columns([1, 2, 1, 1])
-    revision = cols[0].selectbox(
+    revision = cols[1].selectbox(
         "Revision",
         list(reversed(choices.revisions)),
         key=f"acceptance_revision_{axis}",
         help="newest in lineage order first",
     )
     labels = [f"{s} {v}" for s, v in zip(spec_rows["spec"], spec_rows["version"], strict=True)]
-    spec_index = cols[1].selectbox(
+    spec_index = cols[2].selectbox(
         "Spec", range(len(labels)), format_func=labels.__getitem__, key=f"acceptance_spec_{axis}"
     )
     spec = spec_rows.iloc[spec_index]
@@ -59,14 +60,14 @@ def choose() -> dict[str, object] | None:
     if not used:
         st.info(f"Revision {revision} has no {spec['test_kind']} runs to judge.")
         return None
-    gains = cols[2].selectbox(
+    gains = cols[3].selectbox(
         "Gain set",
         list(used),
         format_func=lambda g: f"{g} ({used[g]} runs)",
         key=f"acceptance_gains_{axis}_{revision}",
         help="the gain sets run on this revision, the most used first",
     )
-    rule = cols[3].radio(
+    rule = cols[4].radio(
         "Decision rule", [r.value for r in DecisionRule], key="acceptance_rule", horizontal=True
     )
     return {
@@ -82,9 +83,7 @@ def choose() -> dict[str, object] | None:
 def show_evaluation(choice: dict[str, object]) -> None:
     evaluation = read(views.evaluation, **choice)
     cols = st.columns([1, 4])
-    with cols[0]:
-        st.markdown("**Verdict**")
-        verdict_badge(str(evaluation.verdict))
+    cols[0].markdown(f"**Verdict** {verdict_badge(str(evaluation.verdict))}")
     cols[1].caption(
         describe_rule(evaluation.rule, evaluation.spec.statistic, evaluation.coverage_factor)
     )

@@ -87,8 +87,11 @@ def show_table(table: views.RunTable, key: str) -> list[int]:
         config[name] = st.column_config.NumberColumn(
             metric_label(name, table.units.get(name)), format="%.4g"
         )
+    order = ["run_id", "taken_at", "revision", "gains", *table.metrics]
+    order += ["operator", "test_kind", "source_name", "locked"]
     event = st.dataframe(
         frame,
+        column_order=order,
         key=key,
         on_select="rerun",
         selection_mode="multi-row",
@@ -110,6 +113,7 @@ def show_one(run: views.OpenedRun) -> None:
             key="runs_step",
         )
     st.plotly_chart(figures.step_response_figure(run, step), config={"displaylogo": False})
+    st.caption("The plot opens on the transient; double-click it to see the whole trace.")
     left, right = st.columns([2, 3])
     with left:
         st.markdown(f"**{run.label}**")

@@ -13,7 +13,7 @@ import streamlit as st
 
 from logbook.acceptance.spec_file import parse_spec_text
 from logbook.ingest.profiles import load_profile
-from logbook.services import catalog, profiles, specs, trends, views
+from logbook.services import catalog, profiles, specs, views
 from logbook.store.models import (
     ANTI_WINDUP_MODES,
     CHANGE_CATEGORIES,
@@ -138,7 +138,7 @@ def gains_tab() -> None:
                 feedforward=_optional(feedforward),
             )
             row, created = write(catalog.add_gain_set, params, name=name.strip() or None)
-            label = trends.gain_label(row.name, row.id)
+            label = catalog.gain_label(row.name, row.id)
             if created:
                 saved(f"Gain set {label}")
             st.info(f"These gains are already stored as {label}.")

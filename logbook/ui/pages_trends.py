@@ -64,16 +64,17 @@ def show_first_bad(first: regressions.FirstBadRevision) -> None:
 def main() -> None:
     st.title("Trends")
     with shown_errors():
-        axis = axis_picker(read(axis_names))
+        cols = st.columns([1, 2, 1, 1])
+        with cols[0]:
+            axis = axis_picker(read(axis_names))
         if axis is None:
             return
         choices = read(views.axis_choices, axis)
         if not choices.test_kinds:
             st.info(f"Axis {axis} has no runs yet.")
             return
-        cols = st.columns(3)
         names = list(regressions.DIRECTED_METRICS)
-        metric = cols[0].selectbox(
+        metric = cols[1].selectbox(
             "Metric",
             names,
             index=names.index(DEFAULT_METRIC),
@@ -82,8 +83,8 @@ def main() -> None:
             persist_state="session",
         )
         kinds = [k for k in TEST_KINDS if k in choices.test_kinds]
-        test_kind = cols[1].selectbox("Test kind", kinds, key=f"trends_kind_{axis}")
-        gains = cols[2].selectbox(
+        test_kind = cols[2].selectbox("Test kind", kinds, key=f"trends_kind_{axis}")
+        gains = cols[3].selectbox(
             "Gain set", [REFERENCE, *choices.gains, ALL_GAINS], key=f"trends_gains_{axis}"
         )
         scan = None

@@ -135,6 +135,12 @@ def test_specs_verdicts_and_locks(bench: Database, tmp_path: Path) -> None:
         assert list(specs["spec"]) == [SPEC_NAME]
         assert "settling_time_s ≤ 0.1 s" in specs["limits"].iloc[0]
         assert views.spec_table(session, "y-stage").empty
+        assert views.judged_metrics(session, "x-stage") == (
+            "rise_time_s",  # catalogue order
+            "overshoot_pct",
+            "settling_time_s",
+        )
+        assert views.judged_metrics(session, "y-stage") == ()
         failing = views.evaluation(session, axis="x-stage", revision="B", spec=SPEC_NAME)
         verdicts = views.latest_verdicts(session)
     # B settles in tau·ln 50 = 117 ms against the 100 ms limit; C in 78 ms.

@@ -15,7 +15,7 @@ from tests.ui.conftest import open_page, rerun, texts
 
 
 def verdict(at: AppTest) -> str:
-    return next(m.value for m in at.markdown if "-badge[" in m.value)
+    return next(m.value for m in at.markdown if m.value.startswith("**Verdict**"))
 
 
 def metric_verdicts(at: AppTest) -> dict[str, str]:
@@ -26,12 +26,12 @@ def metric_verdicts(at: AppTest) -> dict[str, str]:
 def test_a_passing_and_a_failing_revision(app: AppTest) -> None:
     at = open_page(app, "pages_acceptance.py")
     # Revision C: tau 20 ms, settling tau·ln 50 = 78 ms against the 100 ms limit.
-    assert verdict(at) == ":green-badge[pass]"
+    assert verdict(at) == "**Verdict** :green-badge[pass]"
     assert set(metric_verdicts(at).values()) == {"pass"}
     at.selectbox(key="acceptance_revision_x-stage").set_value("B")
     rerun(at)
     # Revision B: tau 30 ms, settling 117 ms > 100 ms; rise tau·ln 9 = 66 ms < 80 ms.
-    assert verdict(at) == ":red-badge[fail]"
+    assert verdict(at) == "**Verdict** :red-badge[fail]"
     verdicts = metric_verdicts(at)
     assert verdicts["settling_time_s"] == "fail" and verdicts["rise_time_s"] == "pass"
     assert "Simple acceptance" in texts(at)

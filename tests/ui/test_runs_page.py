@@ -78,6 +78,9 @@ def test_one_ticked_run_shows_its_trace_with_the_figures_marked(app: AppTest) ->
     assert "±2% settling band" in notes
     assert any(n.startswith("settled after") for n in notes)
     assert spec["layout"]["yaxis"]["title"]["text"] == "position [mm]"
+    # The view opens on the transient: three settling times after the step.
+    view = spec["layout"]["xaxis"]["range"]
+    assert view[1] == pytest.approx(settled["x0"] + 2 * (settled["x0"] - STEP_AT))
     assert spec["layout"]["xaxis2"]["title"]["text"] == "time [s]"
 
 
@@ -101,4 +104,4 @@ def test_several_ticked_runs_are_overlaid_at_the_step_and_compared(app: AppTest)
     at.toggle(key="runs_normalise").set_value(True)
     rerun(at)
     [spec] = plotly_specs(at)
-    assert spec["layout"]["yaxis"]["title"]["text"] == "response [fraction of step]"
+    assert spec["layout"]["yaxis"]["title"]["text"] == "response [fraction of the step]"
