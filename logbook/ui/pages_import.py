@@ -167,6 +167,11 @@ def run_import(files: Sequence[uploads.Upload], request: ImportRequest) -> None:
         clear_caches()
 
 
+def forget_results() -> None:
+    """Other files were chosen: the last results no longer describe them."""
+    st.session_state.pop(RESULTS_KEY, None)
+
+
 def show_results() -> None:
     stored = st.session_state.get(RESULTS_KEY)
     if stored is None:
@@ -204,7 +209,11 @@ def main() -> None:
             )
         )
         files = st.file_uploader(
-            "Capture files", type=FILE_TYPES, accept_multiple_files=True, key="import_upload"
+            "Capture files",
+            type=FILE_TYPES,
+            accept_multiple_files=True,
+            key="import_upload",
+            on_change=forget_results,
         )
         profile_name = st.session_state.get(f"import_profile_{axis}")
         stored = {p.name: p for p in read(profiles.list_profiles, axis)} if axis else {}

@@ -22,13 +22,19 @@ __all__ = ["small_logbook", "small_logbook_template"]
 APP = Path(logbook.ui.__file__).parent / "app.py"
 
 
-@pytest.fixture
-def app(small_logbook: Path, monkeypatch: pytest.MonkeyPatch) -> Iterator[AppTest]:
-    """The app (not yet run) serving a private copy of the small logbook."""
-    monkeypatch.setenv(ENV_VAR, str(small_logbook))
-    yield AppTest.from_file(APP, default_timeout=30)
+@pytest.fixture(autouse=True)
+def fresh_caches() -> Iterator[None]:
+    """Streamlit's caches live in the process: empty them after every test."""
+    yield
     st.cache_data.clear()
     st.cache_resource.clear()  # disposes the cached database engines
+
+
+@pytest.fixture
+def app(small_logbook: Path, monkeypatch: pytest.MonkeyPatch) -> AppTest:
+    """The app (not yet run) serving a private copy of the small logbook."""
+    monkeypatch.setenv(ENV_VAR, str(small_logbook))
+    return AppTest.from_file(APP, default_timeout=30)
 
 
 def open_page(at: AppTest, page: str) -> AppTest:

@@ -9,7 +9,10 @@ from pathlib import Path
 import pytest
 from streamlit.testing.v1 import AppTest
 
-from logbook.store.config import ENV_VAR
+from logbook.services import catalog
+from logbook.store.config import ENV_VAR, resolve_url
+from logbook.store.engine import Database
+from logbook.store.migrate import init_database
 from tests.ui.conftest import APP, open_page, texts
 
 
@@ -55,3 +58,32 @@ def test_every_page_renders_on_a_small_logbook(app: AppTest, page: str, expected
     at = open_page(app, page)
     assert not at.error, [e.value for e in at.error]
     assert expected in texts(at)
+
+
+@pytest.mark.parametrize(
+    "page",
+    [
+        "pages_overview.py",
+        "pages_runs.py",
+        "pages_trends.py",
+        "pages_acceptance.py",
+        "pages_import.py",
+        "pages_setup.py",
+    ],
+)
+@pytest.mark.parametrize("with_axis", [False, True], ids=["empty", "axis-without-runs"])
+def test_every_page_renders_on_a_logbook_without_runs(
+    tmp_path: Path, monkeypatch: pytest.MonkeyPatch, page: str, with_axis: bool
+) -> None:
+    path = tmp_path / "new.db"
+    database = Database(resolve_url(str(path)))
+    init_database(database)
+    if with_axis:
+        with database.session(write=True) as session:
+            catalog.add_axis(session, "x-stage", position_unit="mm", feedback_kind="encoder")
+            catalog.add_revision(session, "x-stage", "A")
+    database.dispose()
+    monkeypatch.setenv(ENV_VAR, str(path))
+    at = open_page(AppTest.from_file(APP, default_timeout=30), page)
+    assert not at.error, [e.value for e in at.error]
+    assert at.title[0].value != "The logbook cannot be opened"
