@@ -1,33 +1,63 @@
-"""The root command group, shared options and the error-to-exit-code policy."""
+"""The root command group, shared options and the error-to-exit-code policy.
+
+Start-up time matters (scripts call ``logbook`` once per file): commands are
+registered by name and their modules imported only when one is run, and this
+module imports the database and analysis layers only inside the functions that
+need them.
+"""
 
 from __future__ import annotations
 
+import importlib
 import json
 import sys
 from collections.abc import Callable, Iterable
 from datetime import UTC, date, datetime
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 import click
-from sqlalchemy.exc import OperationalError
 
 from logbook import __version__
-from logbook.analysis.settings import AnalysisSettings
 from logbook.errors import LogbookError
-from logbook.store.config import mask_text
-from logbook.store.engine import Database
-from logbook.store.migrate import require_current
+
+if TYPE_CHECKING:
+    from logbook.analysis.settings import AnalysisSettings
+    from logbook.store.engine import Database
 
 
 class LogbookGroup(click.Group):
-    """A group that turns every user error into one clear line and exit code 1."""
+    """A group of lazily imported commands that turns every user error into one
+    clear line and exit code 1."""
+
+    def __init__(self, *args: Any, **kwargs: Any) -> None:
+        super().__init__(*args, **kwargs)
+        self._lazy: dict[str, str] = {}
+
+    def add_lazy_command(self, name: str, target: str) -> None:
+        """Register ``name`` as the click command at ``"module:attribute"``."""
+        self._lazy[name] = target
+
+    def list_commands(self, ctx: click.Context) -> list[str]:
+        return sorted({*super().list_commands(ctx), *self._lazy})
+
+    def get_command(self, ctx: click.Context, cmd_name: str) -> click.Command | None:
+        if cmd_name in self._lazy and cmd_name not in self.commands:
+            module, attribute = self._lazy[cmd_name].split(":")
+            self.add_command(getattr(importlib.import_module(module), attribute), cmd_name)
+        return super().get_command(ctx, cmd_name)
 
     def invoke(self, ctx: click.Context) -> Any:
         try:
             return super().invoke(ctx)
         except LogbookError as exc:
             raise click.ClickException(str(exc)) from None
-        except OperationalError as exc:
+        except Exception as exc:
+            from sqlalchemy.exc import OperationalError
+
+            if not isinstance(exc, OperationalError):
+                raise
+            from logbook.store.config import mask_text
+
             first = str(exc.orig or exc).strip().splitlines()[0]
             raise click.ClickException(f"database error: {mask_text(first)}") from None
 
@@ -97,6 +127,9 @@ def fail(message: str) -> None:
 
 def open_logbook(db: str | None, *, check_schema: bool = True) -> Database:
     """Open the chosen database; unless told otherwise insist it is current."""
+    from logbook.store.engine import Database
+    from logbook.store.migrate import require_current
+
     database = Database.open(db)
     context = click.get_current_context(silent=True)
     if context is not None:  # release pooled connections when the command ends
@@ -128,6 +161,8 @@ def parse_rise(text: str) -> tuple[float, float]:
 
 def analysis_settings(band: float | None, rise: str | None) -> AnalysisSettings:
     """Settings from ``--band PCT`` and ``--rise LOW-HIGH``, defaults otherwise."""
+    from logbook.analysis.settings import AnalysisSettings
+
     defaults = AnalysisSettings()
     low, high = parse_rise(rise) if rise else (defaults.rise_low, defaults.rise_high)
     try:

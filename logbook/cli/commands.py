@@ -1,38 +1,33 @@
-"""Which commands the ``logbook`` group offers; one line per command module."""
+"""Which commands the ``logbook`` group offers, and where each one lives.
+
+Modules are imported only when their command runs (or for ``--help``), so a
+quick command does not pay for the whole application's imports.
+"""
 
 from __future__ import annotations
 
-import click
+from logbook.cli.base import LogbookGroup
+
+COMMANDS = {
+    "init": "logbook.cli.database:init_command",
+    "db": "logbook.cli.database:db_group",
+    "axis": "logbook.cli.catalog:axis_group",
+    "rev": "logbook.cli.catalog:rev_group",
+    "gains": "logbook.cli.catalog:gains_group",
+    "runs": "logbook.cli.catalog:runs_group",
+    "import": "logbook.cli.importing:import_command",
+    "profile": "logbook.cli.importing:profile_group",
+    "analyze": "logbook.cli.analyze:analyze_command",
+    "trend": "logbook.cli.trends:trend_command",
+    "regressions": "logbook.cli.trends:regressions_command",
+    "spec": "logbook.cli.specs:spec_group",
+    "report": "logbook.cli.report:report_command",
+    "ui": "logbook.cli.ui:ui_command",
+    "demo": "logbook.cli.demo:demo_command",
+}
 
 
-def register_commands(group: click.Group) -> None:
-    """Attach every command to ``group``."""
-    from logbook.cli import analyze, catalog, database, importing
-
-    group.add_command(database.init_command)
-    group.add_command(database.db_group)
-    group.add_command(catalog.axis_group)
-    group.add_command(catalog.rev_group)
-    group.add_command(catalog.gains_group)
-    group.add_command(catalog.runs_group)
-    group.add_command(importing.import_command)
-    group.add_command(importing.profile_group)
-    group.add_command(analyze.analyze_command)
-
-    from logbook.cli import trends
-
-    group.add_command(trends.trend_command)
-    group.add_command(trends.regressions_command)
-
-    from logbook.cli import report, specs
-
-    group.add_command(specs.spec_group)
-    group.add_command(report.report_command)
-
-    from logbook.cli import ui
-
-    group.add_command(ui.ui_command)
-
-    from logbook.cli import demo
-
-    group.add_command(demo.demo_command)
+def register_commands(group: LogbookGroup) -> None:
+    """Attach every command to ``group`` by name."""
+    for name, target in COMMANDS.items():
+        group.add_lazy_command(name, target)

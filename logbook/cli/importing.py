@@ -26,7 +26,7 @@ from logbook.services.importing import (
     ImportRequest,
     Outcome,
     expand_paths,
-    import_file,
+    import_batch,
 )
 from logbook.store.models import TEST_KINDS
 
@@ -133,9 +133,11 @@ def import_command(
         disable=len(files) < PROGRESS_FROM or as_json,
     ) as progress:
         task = progress.add_task("import", total=len(files))
-        for path in files:
-            results.append(import_file(database, path, request))
-            progress.advance(task)
+        results += import_batch(
+            database,
+            [(path, request) for path in files],
+            on_file=lambda _result: progress.advance(task),
+        )
     _report(results, as_json)
     if any(r.outcome is Outcome.REJECTED for r in results):
         raise SystemExit(1)

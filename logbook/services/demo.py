@@ -26,7 +26,7 @@ from logbook.ingest.metadata import RunFields
 from logbook.ingest.profiles import load_profile
 from logbook.services import catalog, profiles, specs
 from logbook.services.acceptance import evaluate_revision
-from logbook.services.importing import FileResult, ImportRequest, Outcome, import_file
+from logbook.services.importing import FileResult, ImportRequest, Outcome, import_batch
 from logbook.store.config import resolve_url
 from logbook.store.engine import Database
 from logbook.store.migrate import current_revision, init_database
@@ -86,21 +86,25 @@ def build_demo(
         _catalogue(database, manifest, data_dir)
         if on_total:
             on_total(len(manifest["captures"]))
-        imported = 0
-        for capture in manifest["captures"]:
-            request = ImportRequest(
-                axis=capture["axis"],
-                gains=capture["gains"],
-                profile=capture["profile"],
-                run_fields=RunFields(revision=capture["revision"], test_kind=capture["test_kind"]),
+        jobs = [
+            (
+                data_dir / capture["path"],
+                ImportRequest(
+                    axis=capture["axis"],
+                    gains=capture["gains"],
+                    profile=capture["profile"],
+                    run_fields=RunFields(
+                        revision=capture["revision"], test_kind=capture["test_kind"]
+                    ),
+                ),
             )
-            result = import_file(database, data_dir / capture["path"], request)
-            if on_file:
-                on_file(result)
-            if result.outcome is not Outcome.IMPORTED:
-                raise LogbookError(f"the demo data did not import: {result.message}")
-            imported += 1
-        return _summarise(database, path, imported, manifest)
+            for capture in manifest["captures"]
+        ]
+        results = import_batch(database, jobs, on_file=on_file)
+        failed = [r for r in results if r.outcome is not Outcome.IMPORTED]
+        if failed:
+            raise LogbookError(f"the demo data did not import: {failed[0].message}")
+        return _summarise(database, path, len(results), manifest)
     finally:
         database.dispose()
 

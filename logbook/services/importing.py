@@ -4,9 +4,11 @@ For each file: hash the bytes and skip it if the axis already has a run from the
 same bytes; read it; merge its ``# key: value`` metadata with what the caller
 gave (the caller wins, and every disagreement is reported); convert it through an
 import profile (a stored one, or one assembled from column options and header
-names); analyse it; then write the run, its trace, its original bytes and its
-figures in one write transaction. Parsing and analysis happen before that
-transaction opens, so other writers wait only for the inserts.
+names); analyse it and encode it for storage; then, in one write transaction,
+check its revision and gain set and write the run, its trace, its original bytes
+and its figures. Everything before that transaction needs no database, so a
+batch prepares files in worker processes while one process writes, and other
+writers wait only for the inserts.
 
 A batch never stops at a bad file: each file ends as imported, duplicate,
 rejected (with a one-line reason naming file, line and column) or, in a dry run,
@@ -16,13 +18,19 @@ checked.
 from __future__ import annotations
 
 import glob
-from collections.abc import Callable, Iterable, Sequence
+import itertools
+import multiprocessing
+import os
+from collections import deque
+from collections.abc import Callable, Iterable, Mapping, Sequence
+from concurrent.futures import Future, ProcessPoolExecutor
 from dataclasses import dataclass, field
 from datetime import UTC, datetime
 from enum import StrEnum
 from pathlib import Path
 from typing import Any
 
+from sqlalchemy import select
 from sqlalchemy.exc import IntegrityError
 from sqlalchemy.orm import Session
 
@@ -34,9 +42,9 @@ from logbook.ingest.metadata import RunFields, merge_run_fields, parse_run_field
 from logbook.ingest.profiles import ImportProfile
 from logbook.ingest.reader import RawTable, read_table
 from logbook.services import catalog
-from logbook.services.profiles import get_profile
+from logbook.services.profiles import list_profiles, unknown_profile
 from logbook.store.engine import Database
-from logbook.store.models import TEST_KINDS, Axis
+from logbook.store.models import TEST_KINDS, Axis, GainSet, HardwareRevision, TestRun
 from logbook.store.runs import (
     RunConditions,
     RunEvidence,
@@ -45,10 +53,10 @@ from logbook.store.runs import (
     find_run_by_hash,
     save_analysis,
 )
-from logbook.trace import Trace
 
 CAPTURE_SUFFIXES = (".csv", ".tsv", ".txt", ".parquet")
 COLUMNS_PROFILE = "(columns)"  # name of the one-off profile built from column options
+PARALLEL_FROM = 16  # files; smaller batches are prepared in this process (no pool start-up)
 _GLOB_CHARS = set("*?[")
 
 
@@ -151,31 +159,154 @@ def expand_paths(paths: Iterable[str]) -> tuple[list[Path], list[FileResult]]:
     return files, missing
 
 
+@dataclass(frozen=True)
+class CatalogSnapshot:
+    """What preparing a file needs from the database, read once per batch.
+
+    Workers prepare files from this copy without touching the database; the
+    writing process checks everything again inside each file's transaction.
+    """
+
+    axes: Mapping[str, AxisInfo]
+    profiles: Mapping[tuple[str, str], ImportProfile]  # (axis, name) -> profile
+    digests: Mapping[str, Mapping[str, int]]  # axis -> source SHA-256 -> run id
+
+    def axis(self, name: str) -> AxisInfo:
+        if name not in self.axes:
+            raise catalog.unknown_axis(name, self.axes)
+        return self.axes[name]
+
+    def profile(self, axis: str, name: str) -> ImportProfile:
+        if (axis, name) not in self.profiles:
+            raise unknown_profile(name, axis, [p for a, p in self.profiles if a == axis])
+        return self.profiles[(axis, name)]
+
+
+def load_snapshot(database: Database) -> CatalogSnapshot:
+    """Read the axes, their import profiles and the SHA-256 of every stored run."""
+    with database.session() as session:
+        axes = {a.name: _axis_info(a) for a in catalog.list_axes(session)}
+        stored = {(p.axis, p.name): p for p in list_profiles(session)}
+        digests: dict[str, dict[str, int]] = {name: {} for name in axes}
+        for axis_name, sha256, run_id in session.execute(
+            select(Axis.name, TestRun.source_sha256, TestRun.id).join(
+                TestRun, TestRun.axis_id == Axis.id
+            )
+        ):
+            digests[axis_name][sha256] = run_id
+    return CatalogSnapshot(axes, stored, digests)
+
+
 def import_files(
     database: Database,
     paths: Sequence[str],
     request: ImportRequest,
     *,
     on_file: Callable[[FileResult], None] | None = None,
+    workers: int | None = None,
 ) -> list[FileResult]:
-    """Import every file under ``paths``; ``on_file`` is called after each one."""
-    files, results = expand_paths(paths)
-    for result in results:
+    """Import every file under ``paths`` with one request; see :func:`import_batch`."""
+    files, missing = expand_paths(paths)
+    for result in missing:
         if on_file:
             on_file(result)
-    for path in files:
-        result = import_file(database, path, request)
-        results.append(result)
-        if on_file:
-            on_file(result)
-    return results
+    return missing + import_batch(
+        database, [(f, request) for f in files], on_file=on_file, workers=workers
+    )
 
 
 def import_file(database: Database, path: Path, request: ImportRequest) -> FileResult:
     """Import one file in its own transaction; never raises for a bad file."""
+    [result] = import_batch(database, [(path, request)], workers=1)
+    return result
+
+
+def import_batch(
+    database: Database,
+    jobs: Sequence[tuple[Path, ImportRequest]],
+    *,
+    on_file: Callable[[FileResult], None] | None = None,
+    workers: int | None = None,
+) -> list[FileResult]:
+    """Import each (file, request), in order, each in its own write transaction.
+
+    Reading, converting, analysing and encoding a file needs no database, so for
+    batches of :data:`PARALLEL_FROM` files or more it runs in ``workers`` worker
+    processes (default: one per core) while this process writes, in input order,
+    the files they have prepared. ``on_file`` is called after each file.
+    """
+    snapshot = load_snapshot(database)
+    workers = workers or os.cpu_count() or 1
+    results: list[FileResult] = []
+
+    def finish(prepared: Prepared | FileResult) -> None:
+        result = prepared if isinstance(prepared, FileResult) else _commit(database, prepared)
+        results.append(result)
+        if on_file:
+            on_file(result)
+
+    if workers < 2 or len(jobs) < PARALLEL_FROM:
+        for path, request in jobs:
+            finish(prepare_file(path, request, snapshot))
+        return results
+    # Workers come from a fork server, not from this process: a forked copy of this
+    # process would inherit its open database connections and keep a killed
+    # importer's transaction (and its locks) alive.
+    context = multiprocessing.get_context("forkserver")
+    context.set_forkserver_preload([__name__])
+    with ProcessPoolExecutor(
+        workers, mp_context=context, initializer=_adopt, initargs=(snapshot,)
+    ) as pool:
+        pending: deque[Future[Prepared | FileResult]] = deque()
+        queue = iter(jobs)
+        for path, request in itertools.islice(queue, 2 * workers):  # a bounded window
+            pending.append(pool.submit(_prepare_in_worker, path, request))
+        while pending:
+            finish(pending.popleft().result())
+            for path, request in itertools.islice(queue, 1):
+                pending.append(pool.submit(_prepare_in_worker, path, request))
+    return results
+
+
+_worker_snapshot: CatalogSnapshot | None = None
+
+
+def _adopt(snapshot: CatalogSnapshot) -> None:
+    global _worker_snapshot
+    _worker_snapshot = snapshot
+
+
+def _prepare_in_worker(path: Path, request: ImportRequest) -> Prepared | FileResult:
+    assert _worker_snapshot is not None, "the pool's initializer sets the snapshot"
+    return prepare_file(path, request, _worker_snapshot)
+
+
+@dataclass(frozen=True)
+class Prepared:
+    """A file read, converted, analysed and encoded, ready for its transaction."""
+
+    name: str
+    axis: str
+    request: ImportRequest
+    fields: RunFields
+    conflicts: tuple[str, ...]
+    evidence: RunEvidence
+    analysis: TraceAnalysis
+    test_kind: str
+    modified_at: datetime
+
+    @property
+    def steps(self) -> tuple[dict[str, float | None], ...]:
+        return tuple(step.to_json() for step in self.analysis.steps)
+
+
+def prepare_file(
+    path: Path, request: ImportRequest, snapshot: CatalogSnapshot
+) -> Prepared | FileResult:
+    """Everything but the write, from ``snapshot`` alone; a bad file gives its rejection."""
     name = str(path)
     try:
-        return _import(database, path, request)
+        return _prepare(path, request, snapshot)
     except InputError as exc:
         error = exc if exc.file is not None else exc.located(name)
         return FileResult(name, Outcome.REJECTED, str(error))
@@ -183,102 +314,139 @@ def import_file(database: Database, path: Path, request: ImportRequest) -> FileR
         return FileResult(name, Outcome.REJECTED, f"{name}: {exc}")
 
 
-@dataclass(frozen=True)
-class _Prepared:
-    """Everything known about a file before the write transaction."""
-
-    fields: RunFields
-    conflicts: tuple[str, ...]
-    profile: ImportProfile
-    trace: Trace
-    analysis: TraceAnalysis
-    test_kind: str
-
-
-def _import(database: Database, path: Path, request: ImportRequest) -> FileResult:
+def _prepare(
+    path: Path, request: ImportRequest, snapshot: CatalogSnapshot
+) -> Prepared | FileResult:
     name = str(path)
     try:
         raw = path.read_bytes()
+        modified_at = datetime.fromtimestamp(path.stat().st_mtime, UTC)
     except OSError as exc:
         raise InputError(f"cannot read the file: {exc.strerror or exc}", file=name) from None
     digest = file_digest(raw)
-
-    with database.session() as session:
-        table = _read(session, path, request)
-        file_fields = parse_run_fields(table.metadata, file=name)
-        fields, conflicts = merge_run_fields(file_fields, request.run_fields)
-        axis_name = request.axis or fields.axis
-        if axis_name is None:
-            raise InputError("no axis: give --axis or a '# axis:' line", file=name)
-        axis = catalog.get_axis(session, axis_name)
-        existing = find_run_by_hash(session, axis, digest)
-        if existing is not None:
-            return FileResult(
-                name,
-                Outcome.DUPLICATE,
-                f"{name}: already in the logbook as run {existing.id} (same SHA-256); skipped",
-                run_id=existing.id,
-            )
-        profile = _profile(session, table, axis, request)
-        _check_references(session, axis, fields, request, name)
-        axis_info = _axis_info(axis)
-
-    trace = trace_from_profile(table, profile, axis_info)
+    if request.axis is not None:  # skip a known file before parsing it
+        run_id = snapshot.digests.get(request.axis, {}).get(digest)
+        if run_id is not None:
+            return _duplicate(name, run_id, "already in the logbook")
+    named = (
+        snapshot.profile(request.axis, request.profile)
+        if request.profile is not None and request.axis is not None
+        else None
+    )
+    if named is not None:
+        table = read_table(path, delimiter=named.delimiter, decimal=named.decimal)
+    else:
+        table = read_table(path)
+    fields, conflicts = merge_run_fields(
+        parse_run_fields(table.metadata, file=name), request.run_fields
+    )
+    axis_name = request.axis or fields.axis
+    if axis_name is None:
+        raise InputError("no axis: give --axis or a '# axis:' line", file=name)
+    axis = snapshot.axis(axis_name)
+    run_id = snapshot.digests.get(axis_name, {}).get(digest)
+    if run_id is not None:
+        return _duplicate(name, run_id, "already in the logbook")
+    if request.profile is not None:
+        profile = named or snapshot.profile(axis_name, request.profile)
+    else:
+        profile = profile_for_columns(table, axis_name, request.columns)
+    trace = trace_from_profile(table, profile, axis)
     try:
         analysis = analyze_trace(trace, settings=request.settings)
     except InputError as exc:
         raise exc.located(name) from None
     test_kind = fields.test_kind or ("speed_step" if profile.speed else "position_step")
     catalog.require_choice("test kind", test_kind, TEST_KINDS)
-    prepared = _Prepared(fields, tuple(conflicts), profile, trace, analysis, test_kind)
-    steps = tuple(step.to_json() for step in analysis.steps)
-    if request.dry_run:
-        return FileResult(
-            name,
-            Outcome.CHECKED,
-            _summary(name, prepared, "would import"),
-            conflicts=prepared.conflicts,
-            steps=steps,
-        )
+    evidence = RunEvidence.from_trace(
+        path.name,
+        raw,
+        trace,
+        sha256=digest,
+        profile_name=None if profile.name == COLUMNS_PROFILE else profile.name,
+    )
+    return Prepared(
+        name,
+        axis_name,
+        request,
+        fields,
+        tuple(conflicts),
+        evidence,
+        analysis,
+        test_kind,
+        modified_at,
+    )
+
+
+def _duplicate(name: str, run_id: int, how: str) -> FileResult:
+    return FileResult(
+        name,
+        Outcome.DUPLICATE,
+        f"{name}: {how} as run {run_id} (same SHA-256); skipped",
+        run_id=run_id,
+    )
+
+
+def _commit(database: Database, prepared: Prepared) -> FileResult:
+    """Check the references and write the prepared file in one transaction."""
+    name = prepared.name
     try:
-        with database.session(write=True) as session:
-            existing = find_run_by_hash(session, catalog.get_axis(session, axis.name), digest)
-            if existing is not None:  # another process imported it meanwhile
+        with database.session(write=not prepared.request.dry_run) as session:
+            axis = catalog.get_axis(session, prepared.axis)
+            existing = find_run_by_hash(session, axis, prepared.evidence.sha256)
+            if existing is not None:  # imported earlier in this batch, or by another process
+                return _duplicate(name, existing.id, "imported meanwhile")
+            revision, gain_set = _references(session, axis, prepared)
+            if prepared.request.dry_run:
                 return FileResult(
                     name,
-                    Outcome.DUPLICATE,
-                    f"{name}: imported meanwhile as run {existing.id}; skipped",
-                    run_id=existing.id,
+                    Outcome.CHECKED,
+                    _summary(prepared, "would import"),
+                    conflicts=prepared.conflicts,
+                    steps=prepared.steps,
                 )
-            run_id = _write(session, axis.name, name, raw, digest, request, prepared)
+            run_id = _write(session, axis, revision, gain_set, prepared)
     except IntegrityError:
         return FileResult(
             name, Outcome.DUPLICATE, f"{name}: imported meanwhile by another process; skipped"
         )
+    except InputError as exc:
+        return FileResult(
+            name, Outcome.REJECTED, str(exc if exc.file is not None else exc.located(name))
+        )
+    except LogbookError as exc:
+        return FileResult(name, Outcome.REJECTED, f"{name}: {exc}")
     return FileResult(
         name,
         Outcome.IMPORTED,
-        _summary(name, prepared, f"run {run_id}"),
+        _summary(prepared, f"run {run_id}"),
         run_id=run_id,
         conflicts=prepared.conflicts,
-        steps=steps,
+        steps=prepared.steps,
     )
 
 
-def _read(session: Session, path: Path, request: ImportRequest) -> RawTable:
-    """Read with the stored profile's delimiter and decimal mark when one is named."""
-    if request.profile is not None and request.axis is not None:
-        profile = get_profile(session, request.axis, request.profile)
-        return read_table(path, delimiter=profile.delimiter, decimal=profile.decimal)
-    return read_table(path)
-
-
-def _profile(
-    session: Session, table: RawTable, axis: Axis, request: ImportRequest
-) -> ImportProfile:
-    if request.profile is not None:
-        return get_profile(session, axis.name, request.profile)
-    return profile_for_columns(table, axis.name, request.columns)
+def _references(
+    session: Session, axis: Axis, prepared: Prepared
+) -> tuple[HardwareRevision, GainSet]:
+    """The run's revision and gain set (inline gains are stored once, by content)."""
+    fields, request = prepared.fields, prepared.request
+    if fields.revision is None:
+        raise InputError(
+            "no hardware revision: give --rev or a '# revision:' line", file=prepared.name
+        )
+    revision = catalog.get_revision(session, axis.name, fields.revision)
+    if request.inline_gains is not None:
+        gain_set, _ = catalog.add_gain_set(session, request.inline_gains, name=request.gains)
+        return revision, gain_set
+    gains = request.gains or fields.gains
+    if gains is None:
+        raise InputError(
+            "no gain set: give --gains NAME, inline --kp/--ki/--kd/--loop-rate, "
+            "or a '# gains:' line",
+            file=prepared.name,
+        )
+    return revision, catalog.get_gain_set(session, gains)
 
 
 def profile_for_columns(table: RawTable, axis_name: str, choice: ColumnChoice) -> ImportProfile:
@@ -309,26 +477,6 @@ def profile_for_columns(table: RawTable, axis_name: str, choice: ColumnChoice) -
     )
 
 
-def _check_references(
-    session: Session, axis: Axis, fields: RunFields, request: ImportRequest, name: str
-) -> None:
-    """Fail early (before parsing the samples) on an unknown revision or gain set."""
-    if fields.revision is None:
-        raise InputError("no hardware revision: give --rev or a '# revision:' line", file=name)
-    catalog.get_revision(session, axis.name, fields.revision)
-    if request.inline_gains is not None:
-        request.inline_gains.validate()
-        return
-    gains = request.gains or fields.gains
-    if gains is None:
-        raise InputError(
-            "no gain set: give --gains NAME, inline --kp/--ki/--kd/--loop-rate, "
-            "or a '# gains:' line",
-            file=name,
-        )
-    catalog.get_gain_set(session, gains)
-
-
 def _axis_info(axis: Axis) -> AxisInfo:
     return AxisInfo(
         name=axis.name,
@@ -343,26 +491,13 @@ def _axis_info(axis: Axis) -> AxisInfo:
 
 
 def _write(
-    session: Session,
-    axis_name: str,
-    name: str,
-    raw: bytes,
-    digest: str,
-    request: ImportRequest,
-    prepared: _Prepared,
+    session: Session, axis: Axis, revision: HardwareRevision, gain_set: GainSet, prepared: Prepared
 ) -> int:
     fields = prepared.fields
-    axis = catalog.get_axis(session, axis_name)
-    assert fields.revision is not None  # checked before parsing
-    revision = catalog.get_revision(session, axis_name, fields.revision)
-    if request.inline_gains is not None:
-        gain_set, _ = catalog.add_gain_set(session, request.inline_gains, name=request.gains)
-    else:
-        gain_set = catalog.get_gain_set(session, request.gains or fields.gains or "")
     notes = fields.notes or ""
     taken_at = fields.date
     if taken_at is None:
-        taken_at = datetime.fromtimestamp(Path(name).stat().st_mtime, UTC)
+        taken_at = prepared.modified_at
         notes = (notes + " " if notes else "") + "(time taken from the file's modification time)"
     run = add_run(
         session,
@@ -379,26 +514,18 @@ def _write(
             temperature_c=fields.temperature_c,
             notes=notes,
         ),
-        evidence=RunEvidence(
-            source_name=Path(name).name,
-            raw_bytes=raw,
-            sha256=digest,
-            trace=prepared.trace,
-            profile_name=None
-            if prepared.profile.name == COLUMNS_PROFILE
-            else prepared.profile.name,
-        ),
+        evidence=prepared.evidence,
     )
     save_analysis(session, run, prepared.analysis)
     return run.id
 
 
-def _summary(name: str, prepared: _Prepared, what: str) -> str:
+def _summary(prepared: Prepared, what: str) -> str:
     steps = prepared.analysis.steps
     first = steps[0].figures if steps else {}
     overshoot = first.get("overshoot_pct")
     settling = first.get("settling_time_s")
-    parts = [f"{name}: {what}", f"{len(steps)} step{'s' if len(steps) != 1 else ''}"]
+    parts = [f"{prepared.name}: {what}", f"{len(steps)} step{'s' if len(steps) != 1 else ''}"]
     if overshoot is not None and overshoot.value is not None:
         parts.append(f"overshoot {overshoot.value:.3g} %")
     if settling is not None and settling.value is not None:

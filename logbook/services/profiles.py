@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+from collections.abc import Iterable
+
 from sqlalchemy import select
 from sqlalchemy.orm import Session
 
@@ -37,11 +39,16 @@ def get_profile(session: Session, axis_name: str, name: str) -> ImportProfile:
         select(ProfileRow).where(ProfileRow.axis_id == axis.id, ProfileRow.name == name)
     )
     if row is None:
-        known = ", ".join(p.name for p in list_profiles(session, axis_name)) or "none yet"
-        raise NotFoundError(
-            f"unknown import profile '{name}' for axis '{axis.name}' (known profiles: {known})"
-        )
+        raise unknown_profile(name, axis.name, [p.name for p in list_profiles(session, axis_name)])
     return profile_from_dict(row.settings)
+
+
+def unknown_profile(name: str, axis_name: str, known: Iterable[str]) -> NotFoundError:
+    """The error for a profile the axis does not have, listing those it has."""
+    listed = ", ".join(sorted(known)) or "none yet"
+    return NotFoundError(
+        f"unknown import profile '{name}' for axis '{axis_name}' (known profiles: {listed})"
+    )
 
 
 def list_profiles(session: Session, axis_name: str | None = None) -> list[ImportProfile]:

@@ -55,22 +55,45 @@ class RunConditions:
 
 @dataclass(frozen=True)
 class RunEvidence:
-    """The source file as it arrived and the trace decoded from it.
+    """A source file and the trace decoded from it, encoded as they are stored.
 
-    ``sha256`` is the digest of ``raw_bytes``; pass it when already computed (the
-    importer hashes a file before parsing it, to skip duplicates).
+    Build it with :meth:`from_trace`; encoding (Parquet, zstd, SHA-256) is the
+    expensive part of a write and needs no database, so an importer can do it in
+    worker processes and hand the result to the one that writes.
     """
 
     source_name: str
-    raw_bytes: bytes
-    trace: Trace
+    sha256: str
+    raw_size: int
+    raw_compressed: bytes
+    samples: bytes
+    sample_count: int
+    channels: tuple[tuple[str, str, str], ...]  # (name, role, unit) in column order
     profile_name: str | None = None
     data_quality: dict[str, float] = field(default_factory=dict)
-    sha256: str = ""
 
-    def __post_init__(self) -> None:
-        if not self.sha256:
-            object.__setattr__(self, "sha256", file_digest(self.raw_bytes))
+    @classmethod
+    def from_trace(
+        cls,
+        source_name: str,
+        raw_bytes: bytes,
+        trace: Trace,
+        *,
+        sha256: str | None = None,
+        profile_name: str | None = None,
+    ) -> RunEvidence:
+        """Encode ``raw_bytes`` and ``trace``; pass ``sha256`` when already known."""
+        return cls(
+            source_name=source_name,
+            sha256=sha256 or file_digest(raw_bytes),
+            raw_size=len(raw_bytes),
+            raw_compressed=compress_raw(raw_bytes),
+            samples=encode_samples(trace),
+            sample_count=len(trace),
+            channels=tuple((c.name, c.role.value, c.unit) for c in trace.channels),
+            profile_name=profile_name,
+            data_quality=dict(trace.quality),
+        )
 
 
 def file_digest(data: bytes) -> str:
@@ -111,23 +134,22 @@ def add_run(
         source_name=evidence.source_name,
         source_sha256=evidence.sha256,
         profile_name=evidence.profile_name,
-        data_quality={**evidence.trace.quality, **evidence.data_quality},
+        data_quality=dict(evidence.data_quality),
     )
     session.add(run)
     session.flush()
-    trace = evidence.trace
     session.add(
         TraceRow(
             run_id=run.id,
-            sample_count=len(trace),
+            sample_count=evidence.sample_count,
             samples_format=SAMPLES_FORMAT,
-            samples=encode_samples(trace),
+            samples=evidence.samples,
             raw_codec=RAW_CODEC,
-            raw_size=len(evidence.raw_bytes),
-            raw_bytes=compress_raw(evidence.raw_bytes),
+            raw_size=evidence.raw_size,
+            raw_bytes=evidence.raw_compressed,
             channels=[
-                TraceChannel(position=i, name=c.name, role=c.role.value, unit=c.unit)
-                for i, c in enumerate(trace.channels)
+                TraceChannel(position=i, name=name, role=role, unit=unit)
+                for i, (name, role, unit) in enumerate(evidence.channels)
             ],
         )
     )

@@ -125,12 +125,18 @@ def test_connection_failure_masks_the_password() -> None:
 
 
 def test_every_command_has_help_with_an_example() -> None:
-    def walk(command: click.Command, path: list[str]) -> Iterator[tuple[list[str], click.Command]]:
-        yield path, command
-        for name, sub in getattr(command, "commands", {}).items():
-            yield from walk(sub, [*path, name])
+    def walk(command: click.Command, path: list[str]) -> Iterator[list[str]]:
+        yield path
+        if isinstance(command, click.Group):
+            context = click.Context(command)
+            for name in command.list_commands(context):
+                sub = command.get_command(context, name)
+                assert sub is not None and sub.name == name, f"'{name}' is registered wrongly"
+                yield from walk(sub, [*path, name])
 
-    for path, _command in walk(main, []):
+    paths = list(walk(main, []))
+    assert ["analyze"] in paths and ["demo"] in paths and ["db", "upgrade"] in paths
+    for path in paths:
         result = invoke(*path, "--help")
         assert result.exit_code == 0, path
         assert "Example:" in result.output, f"'logbook {' '.join(path)}' help has no example"

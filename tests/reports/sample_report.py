@@ -236,7 +236,7 @@ def add_simulated_run(session, *, axis, revision, gain_set, zeta, seed, test_kin
             load_unit="kg",
             temperature_c=22.5,
         ),
-        evidence=RunEvidence(
+        evidence=RunEvidence.from_trace(
             f"bench-x_{revision.label}_{seed:03d}.csv", capture_bytes(t, sp, fb), trace
         ),
     )

@@ -64,10 +64,10 @@ def add_figured_run(
         gain_set=catalog.get_gain_set(session, gains),
         test_kind=test_kind,
         conditions=RunConditions(taken_at=taken_at, operator="ines"),
-        evidence=RunEvidence(
-            source_name=f"{revision}-{taken_at:%Y%m%d%H%M}.csv",
-            raw_bytes=f"{axis} {revision} {gains} {test_kind} {taken_at.isoformat()}".encode(),
-            trace=step_trace(),
+        evidence=RunEvidence.from_trace(
+            f"{revision}-{taken_at:%Y%m%d%H%M}.csv",
+            f"{axis} {revision} {gains} {test_kind} {taken_at.isoformat()}".encode(),
+            step_trace(),
         ),
     )
     analysis = TraceAnalysis(

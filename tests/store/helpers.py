@@ -53,5 +53,5 @@ def seed_run(
         conditions=RunConditions(
             taken_at=datetime(2026, 11, 3, 9, 30, tzinfo=UTC), operator="tester"
         ),
-        evidence=RunEvidence(source_name="run.csv", raw_bytes=raw, trace=step_trace()),
+        evidence=RunEvidence.from_trace("run.csv", raw, step_trace()),
     )
