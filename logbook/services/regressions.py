@@ -28,7 +28,8 @@ A finding needs both that and a change in median at least the metric's
 *practical threshold*: the amount given in ``thresholds``, else
 ``threshold_fraction`` of the spec's tolerance (upper - lower, or the single
 limit's magnitude when only one is set; spec limits must be in the metric's
-unit), else 0.
+unit), else ``threshold_fraction`` of the metric's typical magnitude on the
+axis (the median of |value| over the runs scanned).
 
 The first bad revision per metric follows the definition in
 :mod:`logbook.stats.lineage` ("stayed worse" until a revision that is better
@@ -344,7 +345,7 @@ def find_regressions(
         m: compare_with_parents(lineage, samples[m], min_samples=min_samples) for m in scanned
     }
     limits = {
-        m: _threshold(session, selection, m, units[m], thresholds, threshold_fraction)
+        m: _threshold(session, selection, m, units[m], thresholds, threshold_fraction, samples[m])
         for m in scanned
     }
     verdicts = _classified(comparisons, thresholds=limits, alpha=alpha, correction=correction)
@@ -492,12 +493,16 @@ def _threshold(
     unit: str | None,
     thresholds: Mapping[str, float] | None,
     fraction: float,
+    samples: Mapping[str, Sequence[float]],
 ) -> float:
     if thresholds and metric in thresholds:
         return float(thresholds[metric])
     limit = spec_limit(session, selection, metric)
     if limit is None or limit.unit != unit:
-        return 0.0
+        # No tolerance to take a fraction of: use the metric's own scale on this
+        # axis, so a change of a few percent of a typical value is not a finding.
+        magnitudes = [abs(v) for runs in samples.values() for v in runs]
+        return fraction * float(np.median(magnitudes)) if magnitudes else 0.0
     if limit.lower is not None and limit.upper is not None:
         return fraction * (limit.upper - limit.lower)
     bound = limit.upper if limit.upper is not None else limit.lower

@@ -212,3 +212,13 @@ def test_cli_errors_and_help(story: Database) -> None:
     for command in ("trend", "regressions"):
         help_text = runner.invoke(main, [command, "--help"]).output
         assert f"Example: logbook {command} --axis x-stage" in help_text
+
+
+def test_without_a_spec_the_threshold_is_a_fraction_of_the_metrics_scale(story: Database) -> None:
+    with story.session() as session:
+        scan = find_regressions(session, AXIS, "overshoot_pct")
+        values = metric_trend(session, AXIS, "overshoot_pct", gains=scan.gains)["value"]
+    expected = 0.1 * float(np.median(np.abs(values)))  # default threshold_fraction of the median
+    assert scan.findings, "the planted loss of damping is still found"
+    assert [f.threshold for f in scan.findings] == pytest.approx([expected] * len(scan.findings))
+    assert all(abs(f.change) >= f.threshold for f in scan.findings)
