@@ -17,8 +17,11 @@ from sqlalchemy import select
 
 from logbook.acceptance.rules import Verdict
 from logbook.cli import main
-from logbook.errors import ConflictError
+from logbook.errors import ConflictError, LockedError
+from logbook.reports.readback import read_report_file
 from logbook.services.demo import DemoSummary, build_demo, demo_data_dir
+from logbook.services.regressions import find_regressions
+from logbook.services.reporting import issue_report, verify_report
 from logbook.store.config import resolve_url
 from logbook.store.engine import Database
 from logbook.store.models import AnalysisResult, Axis, GainSet, HardwareRevision, TestRun
@@ -133,3 +136,65 @@ def test_demo_command_prints_the_summary_and_refuses_a_foreign_file(tmp_path: Pa
     assert foreign.read_text() == "not a logbook"
     with pytest.raises(ConflictError):
         build_demo(foreign)
+
+
+def test_regressions_name_the_degraded_revision_and_the_fix(
+    demo: tuple[DemoSummary, Database],
+) -> None:
+    _, database = demo
+    with database.session() as session:
+        scan = find_regressions(session, "x-stage")
+    for metric in ("overshoot_pct", "settling_time_s"):
+        bad = scan.first_bad[metric]
+        assert bad is not None and bad.finding.revision == "C" and bad.finding.parent == "B"
+        assert bad.fixed_by == ("D",)
+        assert bad.change_category == "mechanical"
+        better = {
+            (f.revision, f.parent)
+            for f in scan.findings
+            if f.metric == metric and f.direction == "better"
+        }
+        assert ("D", "C") in better
+
+
+def test_reports_for_a_passing_and_a_failing_revision_read_back_and_verify(
+    demo: tuple[DemoSummary, Database], tmp_path: Path
+) -> None:
+    _, database = demo
+    spec = "stage-position-acceptance"
+    passing = issue_report(
+        database,
+        axis="x-stage",
+        revision="D",
+        spec=spec,
+        gains="stage-pid-v1",
+        out=tmp_path / "d.html",
+    )
+    failing = issue_report(
+        database,
+        axis="x-stage",
+        revision="C",
+        spec=spec,
+        gains="stage-pid-v1",
+        out=tmp_path / "c.html",
+    )
+    assert (passing.verdict, failing.verdict) == ("pass", "fail")
+    for issued in (passing, failing):
+        readback = read_report_file(issued.html_path)
+        assert readback.verdict.lower().startswith(issued.verdict)
+        assert readback.content_hash == issued.content_hash
+        overshoot = next(r for r in readback.rows if r["Metric"] == "overshoot_pct")
+        assert overshoot["Upper"] == "10"  # the demo spec's limit (demo_data/specs)
+        with database.session() as session:
+            assert verify_report(session, issued.html_path).matches
+    with database.session() as session:  # the reported runs are locked now
+        run = session.scalars(
+            select(TestRun).where(
+                TestRun.revision_id.in_(
+                    select(HardwareRevision.id).where(HardwareRevision.label == "C")
+                )
+            )
+        ).first()
+        run_id = run.id
+    with pytest.raises(LockedError), database.session(write=True) as session:
+        session.get(TestRun, run_id).notes = "edited after the report"

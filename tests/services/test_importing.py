@@ -196,3 +196,20 @@ def test_stored_profile_and_column_options(bench: Database, tmp_path: Path) -> N
         assert run.profile_name == "renamed"
         trace = store_runs.load_trace(session, run)
         assert trace.by_role(store_runs.Role.FEEDBACK).unit == "mm"
+
+
+MALFORMED = Path(__file__).resolve().parents[1] / "ingest" / "malformed"
+
+
+def test_every_malformed_file_is_rejected_in_one_line_and_nothing_is_written(
+    bench: Database,
+) -> None:
+    files = sorted(MALFORMED.glob("*.csv"))
+    assert len(files) >= 25
+    results = import_files(bench, [str(MALFORMED)], REQUEST)
+    assert len(results) == len(files)
+    for result in results:
+        assert result.outcome is Outcome.REJECTED, result.path
+        assert result.message.startswith(result.path), result.message
+        assert "\n" not in result.message
+    assert (count(bench, TestRun), count(bench, Trace), count(bench, AnalysisResult)) == (0, 0, 0)
