@@ -52,7 +52,11 @@ def test_installed_wheel_creates_a_database_and_the_demo(tmp_path: Path) -> None
     venv = tmp_path / "venv"
     subprocess.run([sys.executable, "-m", "venv", "--system-site-packages", str(venv)], check=True)
     python = venv / "bin" / "python"
-    subprocess.run([str(python), "-m", "pip", "install", "--no-deps", "-q", str(wheel)], check=True)
+    # --ignore-installed: the same version may already sit in the base site-packages.
+    subprocess.run(
+        [str(python), "-m", "pip", "install", "--no-deps", "--ignore-installed", "-q", str(wheel)],
+        check=True,
+    )
     elsewhere = tmp_path / "elsewhere"
     elsewhere.mkdir()
     where = subprocess.run(
