@@ -316,16 +316,7 @@ def find_regressions(
     penalty_factor, min_segment: change-point settings (see
         :func:`logbook.stats.changepoint.find_change_points`).
     """
-    selection = select_runs(
-        session,
-        axis,
-        test_kind=test_kind,
-        gains=gains,
-        amplitude_range=amplitude_range,
-        settings=settings,
-    )
-    if selection.gain_set is None:
-        selection = replace(selection, gain_set=reference_gain_set(session, selection))
+    selection = _comparable_runs(session, axis, test_kind, gains, amplitude_range, settings)
     wanted = (require_metric(metric),) if metric is not None else DIRECTED_METRICS
     for name in wanted:
         if METRICS[name].better is None:
@@ -405,16 +396,7 @@ def change_point_scan(
 
     gains None means the reference gain set, as in :func:`find_regressions`.
     """
-    selection = select_runs(
-        session,
-        axis,
-        test_kind=test_kind,
-        gains=gains,
-        amplitude_range=amplitude_range,
-        settings=settings,
-    )
-    if selection.gain_set is None:
-        selection = replace(selection, gain_set=reference_gain_set(session, selection))
+    selection = _comparable_runs(session, axis, test_kind, gains, amplitude_range, settings)
     require_metric(metric)
     values = run_values(session, selection, [metric])
     revisions = revision_labels(selection.axis)
@@ -484,6 +466,28 @@ def _better(metric: str) -> str:
     better = METRICS[metric].better
     assert better is not None  # only directed metrics are scanned
     return better
+
+
+def _comparable_runs(
+    session: Session,
+    axis: str,
+    test_kind: str | None,
+    gains: str | None,
+    amplitude_range: tuple[float, float] | None,
+    settings: AnalysisSettings | None,
+) -> RunSelection:
+    """The runs to compare: one test kind and one gain set (the reference by default)."""
+    selection = select_runs(
+        session,
+        axis,
+        test_kind=test_kind,
+        gains=gains,
+        amplitude_range=amplitude_range,
+        settings=settings,
+    )
+    if selection.gain_set is None:
+        selection = replace(selection, gain_set=reference_gain_set(session, selection))
+    return selection
 
 
 def _threshold(
