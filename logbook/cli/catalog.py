@@ -2,7 +2,9 @@
 
 from __future__ import annotations
 
+from collections.abc import Callable, Mapping
 from datetime import date
+from functools import partial
 from typing import Any
 
 import click
@@ -52,6 +54,14 @@ def gain_label(gain_set: GainSet) -> str:
 
 # --- axis ------------------------------------------------------------------------
 
+calibration_option = click.option(
+    "--calibration",
+    nargs=4,
+    type=float,
+    metavar="RAW1 VALUE1 RAW2 VALUE2",
+    help="Two-point calibration of analogue feedback: raw reading -> position.",
+)
+
 
 @click.group("axis")
 def axis_group() -> None:
@@ -84,13 +94,7 @@ def axis_group() -> None:
     type=float,
     help="Travel per motor revolution in the axis unit (e.g. lead-screw lead in mm).",
 )
-@click.option(
-    "--calibration",
-    nargs=4,
-    type=float,
-    metavar="RAW1 VALUE1 RAW2 VALUE2",
-    help="Two-point calibration of analogue feedback: raw reading -> position.",
-)
+@calibration_option
 @click.option("--notes", default="")
 @db_option
 def axis_add(name: str, db: str | None, calibration: tuple[float, ...], **fields: Any) -> None:
@@ -180,20 +184,23 @@ def rev_add(label: str, axis_name: str, when: str | None, db: str | None, **fiel
 
     Example: logbook rev add --axis x-stage A --date 2026-03-02 --summary "first build"
     """
-    revision_date = None
-    if when is not None:
-        try:
-            revision_date = date.fromisoformat(when)
-        except ValueError:
-            raise click.BadParameter(
-                f"{when!r} is not a YYYY-MM-DD date", param_hint="--date"
-            ) from None
+    revision_date = parse_date(when) if when is not None else None
     with open_logbook(db).session(write=True) as session:
         revision = catalog.add_revision(
             session, axis_name, label, revision_date=revision_date, **fields
         )
         parent = f" (derived from '{revision.parent.label}')" if revision.parent else ""
         click.echo(f"added revision '{revision.label}' of axis '{axis_name}'{parent}")
+
+
+def parse_date(when: str) -> date:
+    """A ``--date`` value (YYYY-MM-DD); anything else is a usage error."""
+    try:
+        return date.fromisoformat(when)
+    except ValueError:
+        raise click.BadParameter(
+            f"{when!r} is not a YYYY-MM-DD date", param_hint="--date"
+        ) from None
 
 
 @rev_group.command("list")
@@ -321,3 +328,162 @@ def runs_list(
             rows,
             ["id", "axis", "revision", "gains", "test_kind", "taken_at", "operator", "source_name"],
         )
+
+
+# --- corrections -------------------------------------------------------------------
+
+#: ``--clear`` choice -> the fields it empties, for ``axis edit`` and ``runs edit``.
+AXIS_CLEARS = {
+    "counts-per-rev": ("counts_per_rev",),
+    "units-per-rev": ("units_per_rev",),
+    "calibration": ("calibration",),
+}
+RUN_CLEARS = {
+    "supply-voltage": ("supply_voltage_v",),
+    "temperature": ("temperature_c",),
+    "load": ("load_value", "load_unit"),
+}
+
+
+def clear_option(fields: Mapping[str, tuple[str, ...]], what: str) -> Callable[..., Any]:
+    """``--clear CHOICE`` (repeatable) over the keys of ``fields``; see :func:`add_clears`."""
+    return click.option(
+        "--clear",
+        type=click.Choice(list(fields)),
+        multiple=True,
+        help=f"Remove this {what} (repeatable).",
+    )
+
+
+def given(**options: Any) -> dict[str, Any]:
+    """The options the user gave (click passes None for the others)."""
+    return {key: value for key, value in options.items() if value is not None}
+
+
+def add_clears(
+    changes: dict[str, Any], clear: tuple[str, ...], fields: Mapping[str, tuple[str, ...]]
+) -> None:
+    """Set the fields behind each ``--clear`` choice to None; a value given too is an error."""
+    for option in clear:
+        for key in fields[option]:
+            if key in changes:
+                raise click.UsageError(f"--clear {option} contradicts the value given for it")
+            changes[key] = None
+
+
+def apply_edit(what: str, changes: dict[str, Any], edit: Callable[..., Any]) -> None:
+    """Run ``edit(**changes)`` and say which fields changed; no change is a usage error."""
+    if not changes:
+        raise click.UsageError("nothing to change: give at least one option (see --help)")
+    edit(**changes)
+    click.echo(f"updated {what}: {', '.join(sorted(changes))}")
+
+
+@axis_group.command("edit")
+@click.argument("name")
+@click.option("--rename", "new_name", metavar="NEW", help="New name for the axis.")
+@click.option("--description", help="What the axis is.")
+@click.option("--notes")
+@click.option("--counts-per-rev", type=int, help="Encoder counts per revolution (4 x lines).")
+@click.option("--units-per-rev", type=float, help="Travel per motor revolution in the axis unit.")
+@calibration_option
+@clear_option(AXIS_CLEARS, "value")
+@db_option
+def axis_edit(
+    name: str, calibration: tuple[float, ...], clear: tuple[str, ...], db: str | None, **fields: Any
+) -> None:
+    """Correct an axis's name, description, notes, counts, travel or calibration.
+
+    Position unit and feedback kind stay: stored runs were converted with them. An
+    axis named by an issued acceptance report keeps its name.
+
+    Example: logbook axis edit x-stage --counts-per-rev 4000 --notes "new encoder disc"
+    """
+    changes: dict[str, Any] = given(**fields)
+    if calibration:
+        changes["calibration"] = calibration
+    add_clears(changes, clear, AXIS_CLEARS)
+    with open_logbook(db).session(write=True) as session:
+        apply_edit(f"axis '{name}'", changes, partial(catalog.update_axis, session, name))
+
+
+@rev_group.command("edit")
+@click.argument("label")
+@click.option("--axis", "axis_name", required=True, help="Axis the revision belongs to.")
+@click.option("--summary", "change_summary", help="What changed.")
+@click.option("--category", "change_category", type=click.Choice(CHANGE_CATEGORIES))
+@click.option("--date", "when", help="Date of the revision (YYYY-MM-DD).")
+@click.option("--parent", help="Label of the revision this one was derived from.")
+@click.option("--no-parent", is_flag=True, help="Make the revision a root of the lineage.")
+@db_option
+def rev_edit(
+    label: str,
+    axis_name: str,
+    when: str | None,
+    parent: str | None,
+    no_parent: bool,
+    db: str | None,
+    **fields: Any,
+) -> None:
+    """Correct a revision's summary, category, date or parent.
+
+    A parent must be a revision of the same axis that is not derived from this one.
+
+    Example: logbook rev edit C --axis x-stage --parent B --category firmware
+    """
+    if parent is not None and no_parent:
+        raise click.UsageError("give --parent or --no-parent, not both")
+    changes: dict[str, Any] = given(**fields)
+    if when is not None:
+        changes["revision_date"] = parse_date(when)
+    if parent is not None or no_parent:
+        changes["parent"] = parent
+    with open_logbook(db).session(write=True) as session:
+        edit = partial(catalog.update_revision, session, axis_name, label)
+        apply_edit(f"revision '{label}' of axis '{axis_name}'", changes, edit)
+
+
+@gains_group.command("rename")
+@click.argument("old")
+@click.argument("new")
+@db_option
+def gains_rename(old: str, new: str, db: str | None) -> None:
+    """Rename a gain set (OLD may be #id for an unnamed one).
+
+    The gains themselves never change: other gains are a new gain set.
+
+    Example: logbook gains rename '#3' soft-start
+    """
+    with open_logbook(db).session(write=True) as session:
+        row = catalog.rename_gain_set(session, old, new)
+        click.echo(f"gain set '{old}' is now '{gain_label(row)}'")
+
+
+@runs_group.command("edit")
+@click.argument("run_id", type=int)
+@click.option("--operator")
+@click.option("--notes")
+@click.option("--taken-at", help="When the run was taken (ISO 8601; UTC if no zone).")
+@click.option("--supply-voltage", "supply_voltage_v", type=float, help="Supply voltage in V.")
+@click.option("--temperature", "temperature_c", type=float, help="Temperature in °C.")
+@click.option("--load-value", type=float, help="Load on the axis (with --load-unit).")
+@click.option("--load-unit", help="Unit of the load, e.g. kg.")
+@click.option("--rev", "revision", help="Hardware revision label (same axis).")
+@click.option("--gains", help="Gain set name (or #id).")
+@clear_option(RUN_CLEARS, "bench condition")
+@db_option
+def runs_edit(
+    run_id: int, taken_at: str | None, clear: tuple[str, ...], db: str | None, **fields: Any
+) -> None:
+    """Correct a run's operator, notes, time, bench conditions, revision or gain set.
+
+    Runs used by an issued acceptance report are locked and the edit is refused.
+
+    Example: logbook runs edit 42 --operator "J. Amsel" --temperature 23.5 --rev C
+    """
+    changes: dict[str, Any] = given(**fields)
+    if taken_at is not None:
+        changes["taken_at"] = parse_when(taken_at, "--taken-at")
+    add_clears(changes, clear, RUN_CLEARS)
+    with open_logbook(db).session(write=True) as session:
+        apply_edit(f"run {run_id}", changes, partial(catalog.update_run, session, run_id))
