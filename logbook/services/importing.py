@@ -227,11 +227,12 @@ def import_batch(
     *,
     on_file: Callable[[FileResult], None] | None = None,
     workers: int | None = None,
+    parallel_from: int = PARALLEL_FROM,
 ) -> list[FileResult]:
     """Import each (file, request), in order, each in its own write transaction.
 
     Reading, converting, analysing and encoding a file needs no database, so for
-    batches of :data:`PARALLEL_FROM` files or more it runs in ``workers`` worker
+    batches of ``parallel_from`` files or more it runs in ``workers`` worker
     processes (default: one per core) while this process writes, in input order,
     the files they have prepared. ``on_file`` is called after each file.
     """
@@ -245,7 +246,7 @@ def import_batch(
         if on_file:
             on_file(result)
 
-    if workers < 2 or len(jobs) < PARALLEL_FROM:
+    if workers < 2 or len(jobs) < parallel_from:
         for path, request in jobs:
             finish(prepare_file(path, request, snapshot))
         return results
