@@ -41,11 +41,13 @@ def tail_median(
 
 
 def median(values: np.ndarray) -> float:
-    """The median (mean of the two middle values for an even count), by partition:
-    the same number as ``np.median`` without its per-call overhead."""
-    n = len(values)
-    half = n // 2
-    if n % 2:
-        return np.partition(values, half).item(half)
-    middle = np.partition(values, (half - 1, half))
-    return 0.5 * (middle.item(half - 1) + middle.item(half))
+    """The median (mean of the two middle values for an even count): the same number
+    as ``np.median`` without its per-call overhead. By sorting rather than
+    selection: numpy's vectorised sort is as fast on noisy samples and many times
+    faster on the few-valued data bench traces are full of (encoder counts, sample
+    intervals), where selection slows down."""
+    ordered = np.sort(values)
+    half = len(ordered) // 2
+    if len(ordered) % 2:
+        return ordered.item(half)
+    return 0.5 * (ordered.item(half - 1) + ordered.item(half))

@@ -46,8 +46,9 @@ def saturation_figures(
     min_samples: int,
 ) -> dict[str, Figure]:
     """Saturation and windup figures of samples ``start:end`` (see the module doc)."""
-    at_limit = np.abs(effort[start:end]) >= limit * (1.0 - fraction)
-    edges = np.diff(np.concatenate(([0], at_limit.view(np.int8), [0])))
+    padded = np.zeros(end - start + 2, dtype=np.int8)  # 1 at the limit, 0 around it
+    np.greater_equal(np.abs(effort[start:end]), limit * (1.0 - fraction), out=padded[1:-1])
+    edges = np.diff(padded)
     run_starts = np.flatnonzero(edges == 1)
     run_ends = np.flatnonzero(edges == -1)  # exclusive
     keep = run_ends - run_starts >= min_samples

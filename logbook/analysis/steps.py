@@ -29,7 +29,7 @@ def find_steps(setpoint: np.ndarray, *, tolerance: float = 1e-6) -> tuple[Step, 
     tolerance: a change counts as a step when it exceeds this fraction of the
         setpoint's full range (max - min); the default only ignores float noise.
     """
-    starts = np.flatnonzero(setpoint[1:] != setpoint[:-1]) + 1
+    starts = (setpoint[1:] != setpoint[:-1]).nonzero()[0] + 1
     if len(starts) == 0:
         return ()
     after = setpoint[starts].tolist()

@@ -22,6 +22,7 @@ from __future__ import annotations
 import numpy as np
 
 from logbook.analysis.inputs import samples, time_axis
+from logbook.analysis.levels import median
 from logbook.errors import InputError
 
 #: Widest default window, as a fraction of the trace duration.
@@ -56,7 +57,7 @@ def default_window(t: np.ndarray, x: np.ndarray, *, resolution_pct: float = 1.0)
     if resolution_pct <= 0.0:
         raise InputError(f"resolution_pct must be positive, got {resolution_pct}")
     duration = float(t[-1] - t[0])
-    shortest = 2.0 * float(np.median(np.diff(t)))
+    shortest = 2.0 * median(np.diff(t))
     widest = max(shortest, MAX_WINDOW_FRACTION * duration)
     v_peak = float(np.abs(_windowed_difference(t, x, 0.5 * COARSE_WINDOW_FRACTION * duration))
                    .max())
@@ -66,7 +67,7 @@ def default_window(t: np.ndarray, x: np.ndarray, *, resolution_pct: float = 1.0)
     moving = steps[steps > 0.0]
     quantum = float(moving.min()) if len(moving) else 0.0
     second = np.diff(x, 2)
-    noise = 1.4826 * float(np.median(np.abs(second - np.median(second)))) / np.sqrt(6.0) if (
+    noise = 1.4826 * median(np.abs(second - median(second))) / np.sqrt(6.0) if (
         len(second)) else 0.0
     resolution = max(quantum, noise)
     return float(np.clip(2.0 * resolution / (resolution_pct / 100.0 * v_peak), shortest, widest))
