@@ -1,9 +1,14 @@
 """Read a capture file (CSV, TSV or Parquet) into named float64 columns.
 
-Text files are parsed in one fast pass by pandas' C parser. When that pass fails,
-or its row count does not match the file's lines, a second, line-by-line pass finds
-the first fault and reports it with the file, the 1-based physical line and the
-column, so the fast path never has to keep track of where it is.
+A text file is read once. Its data part is parsed by pyarrow's CSV reader (one
+thread) when it is plain: unquoted finite numbers, as many rows as the file has
+data lines. Any other file (quoted cells, NaN or infinity spellings, blank lines
+inside the data, every fault) is parsed by pandas' C parser; on every file the
+plain parse accepts, the two give the same values (both round correctly). When the
+pandas parse fails too, or its row count does not match the file's lines, a
+line-by-line pass finds the first fault and reports it with the file, the 1-based
+physical line and the column, so the fast paths never have to keep track of where
+they are.
 
 Accepted text layout, top to bottom:
 
@@ -22,14 +27,18 @@ Delimiters ``,``, ``;`` and tab are sniffed when not given; the decimal mark is
 from __future__ import annotations
 
 import csv
+import io
 import os
 import re
 import warnings
+from collections.abc import Iterator
 from dataclasses import dataclass
 from pathlib import Path
+from typing import BinaryIO
 
 import numpy as np
-import pandas as pd
+import pyarrow as pa
+import pyarrow.csv as pa_csv
 
 from logbook.errors import InputError
 
@@ -42,6 +51,9 @@ MAX_ABS_VALUE = 1e12
 MAX_LINE_BYTES = 65_536
 #: Data lines after the header used to sniff the delimiter and decimal mark.
 SNIFF_LINES = 50
+#: The fast parse takes the data in pieces of about this many bytes (whole lines),
+#: so that only one piece's parse buffers exist at a time.
+PIECE_BYTES = 1 << 22
 
 _METADATA = re.compile(r"^#\s*([A-Za-z_][\w .-]*?)\s*:\s*(.*?)\s*$")
 _BOM = b"\xef\xbb\xbf"
@@ -125,15 +137,89 @@ class _Layout:
 
 
 def _read_text(path: str, delimiter: str | None, decimal: str | None) -> RawTable:
-    layout = _read_layout(path, delimiter, decimal)
+    with open(path, "rb") as fh:
+        layout = _read_layout(fh, path, delimiter, decimal)
+        fh.seek(layout.data_offset)
+        data = fh.read()
+    lines = _count_data_lines(data)
+    columns = _parse_plain(data, layout, lines)
+    if columns is None:
+        columns = _parse_general(data, path, layout, lines)
+    return RawTable(path, columns, layout.metadata, layout.header_line + 1)
+
+
+def _parse_plain(data: bytes, layout: _Layout, lines: int) -> dict[str, np.ndarray] | None:
+    """The columns of plain numeric text, parsed by pyarrow's CSV reader (one thread:
+    batches of files already use every core); None when that fails, when its row
+    count is not ``lines`` or when a value is not finite. Those files are left to
+    :func:`_parse_general`, which then decides exactly as for any other file."""
+    if lines == 0:
+        return None
+    options = {
+        "read_options": pa_csv.ReadOptions(column_names=layout.names, use_threads=False),
+        "parse_options": pa_csv.ParseOptions(
+            delimiter=layout.delimiter, quote_char=False, ignore_empty_lines=True
+        ),
+        "convert_options": pa_csv.ConvertOptions(
+            column_types=dict.fromkeys(layout.names, pa.float64()),
+            null_values=[],  # no nulls: a cell is a number or the parse fails
+            strings_can_be_null=False,
+            decimal_point=layout.decimal,
+        ),
+        "memory_pool": pa.system_memory_pool(),  # gives freed buffers back at once
+    }
+    columns = {name: np.empty(lines) for name in layout.names}
+    filled = 0
+    for piece in _pieces(data, PIECE_BYTES):
+        try:
+            table = pa_csv.read_csv(pa.BufferReader(piece), **options)
+        except pa.ArrowException:
+            return None
+        rows = table.num_rows
+        if filled + rows > lines:
+            return None
+        for name, column in zip(layout.names, table.columns, strict=True):
+            at = filled
+            for chunk in column.chunks:
+                columns[name][at : at + len(chunk)] = _float_values(chunk)
+                at += len(chunk)
+        filled += rows
+    if filled != lines or not all(np.isfinite(v).all() for v in columns.values()):
+        return None
+    return columns
+
+
+def _pieces(data: bytes, size: int) -> Iterator[memoryview]:
+    """``data`` in pieces of whole lines of about ``size`` bytes (views, no copies)."""
+    view = memoryview(data)
+    start = 0
+    while start < len(data):
+        stop = data.find(b"\n", start + size) + 1 if start + size < len(data) else 0
+        stop = stop or len(data)
+        yield view[start:stop]
+        start = stop
+
+
+def _float_values(column: pa.DoubleArray) -> np.ndarray:
+    """A view of a float64 column without nulls. (``to_numpy`` would import pandas.)"""
+    return np.frombuffer(column.buffers()[1], np.float64, len(column), column.offset * 8)
+
+
+def _parse_general(
+    data: bytes, path: str, layout: _Layout, lines: int
+) -> dict[str, np.ndarray]:
+    """The columns by pandas' C parser; any fault is diagnosed line by line. (pandas
+    is imported here, when a file needs it: it takes longer to import than most
+    files take to read.)"""
+    import pandas as pd
+
     first_data_line = layout.header_line + 1
     try:
-        with open(path, "rb") as fh, warnings.catch_warnings():
+        with warnings.catch_warnings():
             # pandas only warns when every row is wider than the header: make it fail
             warnings.simplefilter("error", pd.errors.ParserWarning)
-            fh.seek(layout.data_offset)
             frame = pd.read_csv(
-                fh,
+                io.BytesIO(data),
                 sep=layout.delimiter,
                 decimal=layout.decimal,
                 header=None,
@@ -150,59 +236,61 @@ def _read_text(path: str, delimiter: str | None, decimal: str | None) -> RawTabl
     except pd.errors.EmptyDataError:
         raise InputError("no data rows after the header", file=path, line=first_data_line) from None
     except (ValueError, UnicodeDecodeError, pd.errors.ParserWarning) as exc:
-        _diagnose(path, layout)
+        _diagnose(data, path, layout)
         raise InputError(f"cannot be read as a table of numbers ({exc})", file=path) from exc
     if len(frame) == 0:
         raise InputError("no data rows after the header", file=path, line=first_data_line)
-    if len(frame) != _count_data_lines(path, layout.data_offset):
-        _diagnose(path, layout)
+    if len(frame) != lines:
+        _diagnose(data, path, layout)
         raise InputError("the rows read do not match the lines of the file", file=path)
-    columns = {n: frame[n].to_numpy(dtype=np.float64) for n in layout.names}
-    return RawTable(path, columns, layout.metadata, first_data_line)
+    return {n: frame[n].to_numpy(dtype=np.float64) for n in layout.names}
 
 
-def _read_layout(path: str, delimiter: str | None, decimal: str | None) -> _Layout:
-    """Read metadata and the header row, and settle delimiter and decimal mark."""
+def _read_layout(
+    fh: BinaryIO, path: str, delimiter: str | None, decimal: str | None
+) -> _Layout:
+    """Read metadata and the header row from the start of ``fh``, and settle
+    delimiter and decimal mark (lines are read one by one, each at most
+    MAX_LINE_BYTES, so a binary file is rejected without reading it whole)."""
     metadata: dict[str, str] = {}
     metadata_lines: dict[str, int] = {}
-    with open(path, "rb") as fh:
-        line_no = 0
-        header: str | None = None
-        while header is None:
-            raw = fh.readline(MAX_LINE_BYTES + 1)
-            if not raw:
-                break
-            line_no += 1
-            text = _decode(
-                raw[len(_BOM) :] if line_no == 1 and raw.startswith(_BOM) else raw, path, line_no
-            ).strip()
-            if not text:
-                continue
-            if text.startswith("#"):
-                match = _METADATA.match(text)
-                if match:
-                    key = match.group(1).strip().lower()
-                    if key in metadata:
-                        raise InputError(
-                            f"metadata key '{key}' is given twice (first on line "
-                            f"{metadata_lines[key]})",
-                            file=path,
-                            line=line_no,
-                        )
-                    metadata[key] = match.group(2)
-                    metadata_lines[key] = line_no
-                continue
-            header = text
-        if header is None:
-            reason = "empty file" if line_no == 0 else "no header row (only comments or blanks)"
-            raise InputError(reason, file=path, line=line_no or None)
-        data_offset = fh.tell()
-        sample = []
-        for _ in range(SNIFF_LINES):
-            raw = fh.readline(MAX_LINE_BYTES + 1)
-            if not raw:
-                break
-            sample.append(_decode(raw, path, line_no + len(sample) + 1).strip())
+    line_no = 0
+    header: str | None = None
+    while header is None:
+        raw = fh.readline(MAX_LINE_BYTES + 1)
+        if not raw:
+            break
+        line_no += 1
+        text = _decode(
+            raw[len(_BOM) :] if line_no == 1 and raw.startswith(_BOM) else raw, path, line_no
+        ).strip()
+        if not text:
+            continue
+        if text.startswith("#"):
+            match = _METADATA.match(text)
+            if match:
+                key = match.group(1).strip().lower()
+                if key in metadata:
+                    raise InputError(
+                        f"metadata key '{key}' is given twice (first on line "
+                        f"{metadata_lines[key]})",
+                        file=path,
+                        line=line_no,
+                    )
+                metadata[key] = match.group(2)
+                metadata_lines[key] = line_no
+            continue
+        header = text
+    if header is None:
+        reason = "empty file" if line_no == 0 else "no header row (only comments or blanks)"
+        raise InputError(reason, file=path, line=line_no or None)
+    data_offset = fh.tell()
+    sample = []
+    for _ in range(SNIFF_LINES):
+        raw = fh.readline(MAX_LINE_BYTES + 1)
+        if not raw:
+            break
+        sample.append(_decode(raw, path, line_no + len(sample) + 1).strip())
     header_line = line_no
     chosen = delimiter or _sniff_delimiter(header, sample)
     names = _split(header, chosen)
@@ -259,6 +347,8 @@ def _decode(raw: bytes, path: str, line_no: int) -> str:
 
 def _split(line: str, delimiter: str) -> list[str]:
     """Fields of one line, quotes removed and surrounding spaces stripped."""
+    if '"' not in line:  # what the csv module makes of a line without quotes, faster
+        return [field.strip() for field in line.split(delimiter)] if line else []
     try:
         return [field.strip() for field in next(csv.reader([line], delimiter=delimiter))]
     except csv.Error as exc:  # _decode rules out the known causes; kept as a safety net
@@ -320,29 +410,28 @@ def _check_names(names: list[str], path: str, line: int | None) -> None:
         seen.add(name)
 
 
-def _count_data_lines(path: str, offset: int, *, chunk: int = 1 << 20) -> int:
-    """Physical lines from ``offset`` to the end, trailing blank lines not counted."""
-    newlines = 0
-    tail = b""
-    with open(path, "rb") as fh:
-        fh.seek(offset)
-        while block := fh.read(chunk):
-            newlines += block.count(b"\n")
-            tail = (tail + block)[-chunk:]
-    body = tail.rstrip(b" \t\r\n")
-    if not body and len(tail) < chunk:
-        return 0
-    return newlines - tail[len(body) :].count(b"\n") + 1
+def _count_data_lines(data: bytes, *, block: int = 4096) -> int:
+    """Physical lines of ``data`` (the bytes after the header), trailing blank lines
+    not counted."""
+    end = len(data)
+    while end > 0:  # find the end of the last line with content, a block at a time
+        start = max(0, end - block)
+        kept = len(data[start:end].rstrip(b" \t\r\n"))
+        if kept:
+            # numpy counts the newlines several times faster than bytes.count here
+            newlines = np.count_nonzero(np.frombuffer(data, np.uint8, start + kept) == 10)
+            return int(newlines) + 1
+        end = start
+    return 0
 
 
-def _diagnose(path: str, layout: _Layout) -> None:
+def _diagnose(data: bytes, path: str, layout: _Layout) -> None:
     """Walk the data lines and raise an InputError for the first fault found."""
     width = len(layout.names)
     number = _NUMBER[layout.decimal]
     other_mark = "," if layout.decimal == "." else "."
     blank_line: int | None = None
-    with open(path, "rb") as fh:
-        fh.seek(layout.data_offset)
+    with io.BytesIO(data) as fh:
         lines = iter(lambda: fh.readline(MAX_LINE_BYTES + 1), b"")
         for line_no, raw in enumerate(lines, start=layout.header_line + 1):
             text = _decode(raw, path, line_no).strip()
@@ -394,7 +483,6 @@ def _diagnose(path: str, layout: _Layout) -> None:
 
 def _read_parquet(path: str) -> RawTable:
     """Numeric Parquet columns as float64; nulls become NaN. Lines are row numbers."""
-    import pyarrow as pa
     import pyarrow.parquet as pq
 
     try:

@@ -12,6 +12,7 @@ import numpy as np
 import pytest
 
 from logbook.analysis import AnalysisSettings, analyze_arrays
+from logbook.analysis.oscillation import hann_window
 from tests.analysis.signals import second_order, setpoint
 
 DEFAULTS = AnalysisSettings()
@@ -72,3 +73,9 @@ def test_a_decaying_transient_is_not_hunting():
     _, step = _step(0.0)
     assert step.value("hunting_freq_hz") is None
     assert step.value("hunting_flag") == 0.0
+
+
+@pytest.mark.parametrize("n", [2, 3, 16, 17, 4096, 4375, 100_000])
+def test_hann_window_is_numpys(n):
+    # The spectrum's window is numpy's Hann window to the last bit (numpy as the reference).
+    np.testing.assert_array_equal(hann_window(n), np.hanning(n))

@@ -10,7 +10,7 @@ import numpy as np
 import pytest
 
 from logbook.analysis import METRICS, AnalysisSettings, analyze_arrays
-from logbook.analysis.levels import tail_median
+from logbook.analysis.levels import median, tail_median
 from logbook.analysis.results import Figure, StepAnalysis
 from logbook.analysis.steps import Step, find_steps
 
@@ -99,3 +99,18 @@ def test_crossings_before_the_logged_step_count_from_the_step():
     assert step.value("rise_start_s") == 0.0
     assert step.value("delay_time_s") == pytest.approx(0.0, abs=1e-15)
     assert step.value("rise_time_s") == pytest.approx(0.1, abs=1e-15)  # 0.9 reached at 0.2 s
+
+
+@pytest.mark.parametrize(
+    "values",
+    [
+        np.random.default_rng(3).normal(5.0, 0.01, 1001),  # noisy level, odd count
+        np.random.default_rng(4).normal(5.0, 0.01, 1000),  # even count: mean of the middle two
+        np.round(np.random.default_rng(5).normal(1000.0, 0.4, 4000)),  # encoder counts
+        np.diff(np.arange(5500, 10001) / 1e4),  # sample intervals of a uniform clock
+        np.array([2.0]),
+    ],
+)
+def test_median_is_numpys_median(values):
+    # The level estimator's median is numpy's number exactly (numpy as the reference).
+    assert median(values) == np.median(values)

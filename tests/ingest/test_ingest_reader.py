@@ -147,3 +147,67 @@ def test_overlong_line_is_rejected_without_reading_it_whole(tmp_path: Path) -> N
     path.write_bytes(b"t,sp,y\n0,0,0\n" + b"7" * 200_000 + b",1,1\n")
     with pytest.raises(InputError, match=r"line 3: a line longer than 65536 bytes"):
         read_table(path)
+
+
+# Decimal strings whose nearest double is easy to get wrong: Python's float() rounds
+# correctly to nearest, ties to even (IEEE 754), and is the reference here.
+TRICKY_NUMBERS = [
+    "0.1",
+    "0.30000000000000004",
+    "9007199254740993",  # 2**53 + 1: a tie, rounds to the even 2**53
+    "1.00000000000000011102230246251565404236316680908203125",  # tie: rounds to 1.0
+    "1.000000000000000111022302462515654042363166809082031250001",  # just above it
+    "2.2250738585072011e-308",
+    "4.9e-324",
+    "123456789012.345678",
+    "-0",
+    "+.5e+2",
+    " 2.5",
+]
+
+
+@pytest.mark.parametrize(("delimiter", "decimal"), [(",", "."), (";", ","), ("\t", ".")])
+def test_numbers_are_read_as_python_reads_them(
+    tmp_path: Path, delimiter: str, decimal: str
+) -> None:
+    cells = [text.replace(".", decimal) for text in TRICKY_NUMBERS]
+    path = tmp_path / "numbers.csv"
+    path.write_text(
+        f"value{delimiter}index\n"
+        + "".join(f"{cell}{delimiter}{i}\n" for i, cell in enumerate(cells)),
+        encoding="utf-8",
+    )
+    values = read_table(path, max_abs=1e300).columns["value"]
+    assert [v.hex() for v in values.tolist()] == [float(t).hex() for t in TRICKY_NUMBERS]
+
+
+def test_a_large_file_is_read_in_pieces_without_losing_a_row(
+    tmp_path: Path, monkeypatch: pytest.MonkeyPatch
+) -> None:
+    from logbook.ingest import reader
+
+    monkeypatch.setattr(reader, "PIECE_BYTES", 100)  # a few lines per piece
+    rng = np.random.default_rng(1)
+    values = rng.normal(0.0, 1e3, (997, 3))
+    path = tmp_path / "capture.csv"
+    rows = "".join(f"{a!r},{b!r},{c!r}\r\n" for a, b, c in values.tolist())
+    path.write_text("# axis: x\nt,sp,y\n" + rows + "\r\n")
+    table = read_table(path)
+    np.testing.assert_array_equal(np.column_stack(list(table.columns.values())), values)
+    assert table.first_data_line == 3
+
+
+def test_quoted_numbers_and_nan_cells_are_read_like_other_cells(tmp_path: Path) -> None:
+    # The files the plain fast parse leaves to the general one (quotes, NaN).
+    path = tmp_path / "capture.csv"
+    path.write_text('t,sp,spare\n0.0,"1.5",nan\n0.1,2.5,NaN\n0.2,3.5,1\n')
+    table = read_table(path)
+    np.testing.assert_array_equal(table.columns["sp"], [1.5, 2.5, 3.5])
+    np.testing.assert_array_equal(table.columns["spare"], [np.nan, np.nan, 1.0])
+
+
+def test_other_nan_spellings_are_text(tmp_path: Path) -> None:
+    path = tmp_path / "capture.csv"
+    path.write_text("t,sp\n0.0,1\n0.1,NAN\n")
+    with pytest.raises(InputError, match=r"line 3, column 'sp': text 'NAN' in a numeric column"):
+        read_table(path)
