@@ -48,9 +48,8 @@ def saturation_figures(
     """Saturation and windup figures of samples ``start:end`` (see the module doc)."""
     padded = np.zeros(end - start + 2, dtype=np.int8)  # 1 at the limit, 0 around it
     np.greater_equal(np.abs(effort[start:end]), limit * (1.0 - fraction), out=padded[1:-1])
-    edges = np.diff(padded)
-    run_starts = np.flatnonzero(edges == 1)
-    run_ends = np.flatnonzero(edges == -1)  # exclusive
+    edges = np.flatnonzero(np.diff(padded))  # alternately a run's start and its end
+    run_starts, run_ends = edges[0::2], edges[1::2]  # ends exclusive
     keep = run_ends - run_starts >= min_samples
     run_starts, run_ends = run_starts[keep] + start, run_ends[keep] + start
     if len(run_starts) == 0:
