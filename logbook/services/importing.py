@@ -6,8 +6,7 @@ gave (the caller wins, and every disagreement is reported); convert it through a
 import profile (a stored one, or one assembled from column options and header
 names); analyse it and encode it for storage; then, in one write transaction,
 check its revision and gain set and write the run, its trace, its original bytes
-and its figures. Everything before that transaction needs no database, so a
-batch prepares files in worker processes while one process writes, and other
+and its figures. Everything before that transaction needs no database, so other
 writers wait only for the inserts.
 
 A batch never stops at a bad file: each file ends as imported, duplicate,
@@ -18,12 +17,7 @@ checked.
 from __future__ import annotations
 
 import glob
-import itertools
-import multiprocessing
-import os
-from collections import deque
 from collections.abc import Callable, Iterable, Mapping, Sequence
-from concurrent.futures import Future, ProcessPoolExecutor
 from dataclasses import dataclass, field
 from datetime import UTC, datetime
 from enum import StrEnum
@@ -56,7 +50,7 @@ from logbook.store.runs import (
 
 CAPTURE_SUFFIXES = (".csv", ".tsv", ".txt", ".parquet")
 COLUMNS_PROFILE = "(columns)"  # name of the one-off profile built from column options
-PARALLEL_FROM = 16  # files; smaller batches are prepared in this process (no pool start-up)
+COMMIT_ATTEMPTS = 3  # a file's transaction is retried after a unique-key clash
 _GLOB_CHARS = set("*?[")
 
 
@@ -163,8 +157,8 @@ def expand_paths(paths: Iterable[str]) -> tuple[list[Path], list[FileResult]]:
 class CatalogSnapshot:
     """What preparing a file needs from the database, read once per batch.
 
-    Workers prepare files from this copy without touching the database; the
-    writing process checks everything again inside each file's transaction.
+    Files are prepared from this copy without touching the database; each file's
+    transaction checks everything again.
     """
 
     axes: Mapping[str, AxisInfo]
@@ -203,21 +197,18 @@ def import_files(
     request: ImportRequest,
     *,
     on_file: Callable[[FileResult], None] | None = None,
-    workers: int | None = None,
 ) -> list[FileResult]:
     """Import every file under ``paths`` with one request; see :func:`import_batch`."""
     files, missing = expand_paths(paths)
     for result in missing:
         if on_file:
             on_file(result)
-    return missing + import_batch(
-        database, [(f, request) for f in files], on_file=on_file, workers=workers
-    )
+    return missing + import_batch(database, [(f, request) for f in files], on_file=on_file)
 
 
 def import_file(database: Database, path: Path, request: ImportRequest) -> FileResult:
     """Import one file in its own transaction; never raises for a bad file."""
-    [result] = import_batch(database, [(path, request)], workers=1)
+    [result] = import_batch(database, [(path, request)])
     return result
 
 
@@ -226,60 +217,26 @@ def import_batch(
     jobs: Sequence[tuple[Path, ImportRequest]],
     *,
     on_file: Callable[[FileResult], None] | None = None,
-    workers: int | None = None,
-    parallel_from: int = PARALLEL_FROM,
 ) -> list[FileResult]:
     """Import each (file, request), in order, each in its own write transaction.
 
-    Reading, converting, analysing and encoding a file needs no database, so for
-    batches of ``parallel_from`` files or more it runs in ``workers`` worker
-    processes (default: one per core) while this process writes, in input order,
-    the files they have prepared. ``on_file`` is called after each file.
+    The catalogue is read once for the batch; each file is then prepared (read,
+    converted, analysed, encoded) without the database and written in one short
+    transaction. ``on_file`` is called after each file.
+
+    Files are prepared one after another: a pool of worker processes was measured
+    slower here (benchmarks/bench_import.py), as the reader already parses on
+    several threads and the writer then competes with the workers for the cores.
     """
     snapshot = load_snapshot(database)
-    workers = workers or os.cpu_count() or 1
-    results: list[FileResult] = []
-
-    def finish(prepared: Prepared | FileResult) -> None:
+    results = []
+    for path, request in jobs:
+        prepared = prepare_file(path, request, snapshot)
         result = prepared if isinstance(prepared, FileResult) else _commit(database, prepared)
         results.append(result)
         if on_file:
             on_file(result)
-
-    if workers < 2 or len(jobs) < parallel_from:
-        for path, request in jobs:
-            finish(prepare_file(path, request, snapshot))
-        return results
-    # Workers come from a fork server, not from this process: a forked copy of this
-    # process would inherit its open database connections and keep a killed
-    # importer's transaction (and its locks) alive.
-    context = multiprocessing.get_context("forkserver")
-    context.set_forkserver_preload([__name__])
-    with ProcessPoolExecutor(
-        workers, mp_context=context, initializer=_adopt, initargs=(snapshot,)
-    ) as pool:
-        pending: deque[Future[Prepared | FileResult]] = deque()
-        queue = iter(jobs)
-        for path, request in itertools.islice(queue, 2 * workers):  # a bounded window
-            pending.append(pool.submit(_prepare_in_worker, path, request))
-        while pending:
-            finish(pending.popleft().result())
-            for path, request in itertools.islice(queue, 1):
-                pending.append(pool.submit(_prepare_in_worker, path, request))
     return results
-
-
-_worker_snapshot: CatalogSnapshot | None = None
-
-
-def _adopt(snapshot: CatalogSnapshot) -> None:
-    global _worker_snapshot
-    _worker_snapshot = snapshot
-
-
-def _prepare_in_worker(path: Path, request: ImportRequest) -> Prepared | FileResult:
-    assert _worker_snapshot is not None, "the pool's initializer sets the snapshot"
-    return prepare_file(path, request, _worker_snapshot)
 
 
 @dataclass(frozen=True)
@@ -389,34 +346,48 @@ def _duplicate(name: str, run_id: int, how: str) -> FileResult:
 
 
 def _commit(database: Database, prepared: Prepared) -> FileResult:
-    """Check the references and write the prepared file in one transaction."""
+    """Check the references and write the prepared file in one transaction.
+
+    A unique-key clash means another writer got there first: with this file (the
+    retry then finds its run and reports a duplicate) or with a shared row such
+    as the analysis settings or inline gains (the retry then uses that row). Only
+    PostgreSQL lets writers overlap like this; SQLite write sessions queue.
+    """
+    for _attempt in range(COMMIT_ATTEMPTS):
+        try:
+            return _commit_once(database, prepared)
+        except IntegrityError:
+            continue
+        except InputError as exc:
+            located = exc if exc.file is not None else exc.located(prepared.name)
+            return FileResult(prepared.name, Outcome.REJECTED, str(located))
+        except LogbookError as exc:
+            return FileResult(prepared.name, Outcome.REJECTED, f"{prepared.name}: {exc}")
+    return FileResult(
+        prepared.name,
+        Outcome.REJECTED,
+        f"{prepared.name}: kept clashing with other writers ({COMMIT_ATTEMPTS} tries); "
+        "import it again",
+    )
+
+
+def _commit_once(database: Database, prepared: Prepared) -> FileResult:
     name = prepared.name
-    try:
-        with database.session(write=not prepared.request.dry_run) as session:
-            axis = catalog.get_axis(session, prepared.axis)
-            existing = find_run_by_hash(session, axis, prepared.evidence.sha256)
-            if existing is not None:  # imported earlier in this batch, or by another process
-                return _duplicate(name, existing.id, "imported meanwhile")
-            revision, gain_set = _references(session, axis, prepared)
-            if prepared.request.dry_run:
-                return FileResult(
-                    name,
-                    Outcome.CHECKED,
-                    _summary(prepared, "would import"),
-                    conflicts=prepared.conflicts,
-                    steps=prepared.steps,
-                )
-            run_id = _write(session, axis, revision, gain_set, prepared)
-    except IntegrityError:
-        return FileResult(
-            name, Outcome.DUPLICATE, f"{name}: imported meanwhile by another process; skipped"
-        )
-    except InputError as exc:
-        return FileResult(
-            name, Outcome.REJECTED, str(exc if exc.file is not None else exc.located(name))
-        )
-    except LogbookError as exc:
-        return FileResult(name, Outcome.REJECTED, f"{name}: {exc}")
+    with database.session(write=not prepared.request.dry_run) as session:
+        axis = catalog.get_axis(session, prepared.axis)
+        existing = find_run_by_hash(session, axis, prepared.evidence.sha256)
+        if existing is not None:  # imported earlier in this batch, or by another process
+            return _duplicate(name, existing.id, "imported meanwhile")
+        revision, gain_set = _references(session, axis, prepared)
+        if prepared.request.dry_run:
+            return FileResult(
+                name,
+                Outcome.CHECKED,
+                _summary(prepared, "would import"),
+                conflicts=prepared.conflicts,
+                steps=prepared.steps,
+            )
+        run_id = _write(session, axis, revision, gain_set, prepared)
     return FileResult(
         name,
         Outcome.IMPORTED,
