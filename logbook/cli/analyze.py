@@ -118,8 +118,9 @@ def _reports(
     paths: list[str], columns: _Columns, settings: AnalysisSettings
 ) -> Iterator[FileReport]:
     """Reports in input order; a worker pool for large batches on several cores."""
-    cores = len(os.sched_getaffinity(0)) if hasattr(os, "sched_getaffinity") else (
-        os.cpu_count() or 1)
+    cores = (
+        len(os.sched_getaffinity(0)) if hasattr(os, "sched_getaffinity") else (os.cpu_count() or 1)
+    )
     workers = min(cores, len(paths) // CHUNK)
     if (
         len(paths) < PARALLEL_FROM
@@ -128,10 +129,8 @@ def _reports(
     ):
         yield from (analyze_file(path, columns, settings) for path in paths)
         return
-    # fork: workers inherit the parent's modules; import the slow ones here once
+    # fork: workers inherit the parent's modules; import the reader here once
     # rather than in every worker.
-    import scipy.optimize  # noqa: F401
-
     from logbook.ingest import reader  # noqa: F401
 
     with multiprocessing.get_context("fork").Pool(workers) as pool:

@@ -52,6 +52,8 @@ class LogbookGroup(click.Group):
         except LogbookError as exc:
             raise click.ClickException(str(exc)) from None
         except Exception as exc:
+            if "sqlalchemy" not in sys.modules:  # then it cannot be a database error
+                raise
             from sqlalchemy.exc import OperationalError
 
             if not isinstance(exc, OperationalError):
