@@ -9,7 +9,6 @@ import click
 from logbook.acceptance.rules import DecisionRule
 from logbook.cli.base import db_option, open_logbook
 from logbook.services import reporting
-from logbook.store.engine import Database
 
 
 @click.command("report")
@@ -58,24 +57,6 @@ def report_command(
     Example: logbook report --verify x-stage-C.html
     """
     database = open_logbook(db)
-    _run(database, axis, revision, spec, spec_version, gains, rule, out, pdf_path,
-         csv_path, issued_by, verify_path)  # fmt: skip
-
-
-def _run(
-    database: Database,
-    axis: str | None,
-    revision: str | None,
-    spec: str | None,
-    spec_version: str | None,
-    gains: str | None,
-    rule: str,
-    out: str | None,
-    pdf_path: str | None,
-    csv_path: str | None,
-    issued_by: str,
-    verify_path: str | None,
-) -> None:
     if verify_path is not None:
         if axis or revision or spec or out:
             raise click.UsageError("--verify takes only the report file")
