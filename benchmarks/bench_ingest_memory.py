@@ -6,7 +6,7 @@ Writes a CSV of ``--rows`` rows (time, setpoint, position, effort; the layout of
 bench capture with a metadata header), then reads it with
 ``logbook.ingest.read_table`` + ``trace_from_table`` in a fresh child process and
 prints the file size, the peak memory and their ratio (target: below 4x). Peak
-memory is measured two ways: the growth of the resident set (``ru_maxrss`` minus
+memory is measured two ways: the growth of the resident set (the child's VmHWM minus
 the resident size after imports, which covers pandas' C buffers) and the
 ``tracemalloc`` peak (Python and numpy allocations only). For scale it also prints
 the read time beside a bare ``pandas.read_csv`` of the same file in the same run.
@@ -39,7 +39,10 @@ tracemalloc.start()
 trace = trace_from_table(read_table(sys.argv[1]))
 traced_peak = tracemalloc.get_traced_memory()[1]
 tracemalloc.stop()
-peak = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss * 1024
+# VmHWM, not ru_maxrss: Linux carries ru_maxrss over from the parent through fork
+# and exec, so this child would start with the parent's peak.
+with open("/proc/self/status") as fh:
+    peak = next(int(line.split()[1]) for line in fh if line.startswith("VmHWM:")) * 1024
 print(len(trace), max(peak - before, 0), traced_peak)
 """
 

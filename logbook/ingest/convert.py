@@ -118,9 +118,15 @@ def trace_from_profile(
         feedback, feedback_unit = estimate_velocity(time, feedback), f"{feedback_unit}/s"
     channels.append(_channel(Role.FEEDBACK, feedback_unit, feedback))
     if profile.effort_column is not None:
-        effort = table.columns[profile.effort_column] * profile.effort_scale
+        effort = _scaled(table.columns[profile.effort_column], profile.effort_scale)
         channels.append(_channel(Role.EFFORT, profile.effort_unit, effort))
     return Trace(tuple(channels), quality)
+
+
+def _scaled(values: np.ndarray, scale: float) -> np.ndarray:
+    """``values`` times ``scale``; the column itself when the scale is 1 (no copy of a
+    million-row column just to multiply it by one)."""
+    return values if scale == 1.0 else values * scale
 
 
 def _channel(role: Role, unit: str, values: np.ndarray) -> Channel:
@@ -130,7 +136,7 @@ def _channel(role: Role, unit: str, values: np.ndarray) -> Channel:
 def _setpoint(
     table: RawTable, profile: ImportProfile, quality: dict[str, float]
 ) -> tuple[np.ndarray, str]:
-    raw = table.columns[profile.setpoint_column] * profile.setpoint_scale
+    raw = _scaled(table.columns[profile.setpoint_column], profile.setpoint_scale)
     if profile.setpoint_signal == "value":
         return raw, profile.setpoint_unit
     pulses = pulse_width_to_angle(
@@ -151,9 +157,9 @@ def _feedback(
         a, b = _quadrature_levels(table, profile)
         decoded = decode_quadrature(a, b)
         quality["illegal_transitions"] = decoded.illegal_transitions
-        return _counts(decoded.counts * profile.feedback_scale, axis)
+        return _counts(_scaled(decoded.counts, profile.feedback_scale), axis)
     assert profile.feedback_column is not None  # guaranteed by ImportProfile
-    raw = table.columns[profile.feedback_column] * profile.feedback_scale
+    raw = _scaled(table.columns[profile.feedback_column], profile.feedback_scale)
     if signal == "value":
         return raw, profile.feedback_unit
     if signal == "counts":

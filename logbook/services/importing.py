@@ -310,6 +310,7 @@ def _prepare(
     else:
         profile = profile_for_columns(table, axis_name, request.columns)
     trace = trace_from_profile(table, profile, axis)
+    del table  # the trace holds what is needed; free the rest before analysing
     try:
         analysis = analyze_trace(trace, settings=request.settings)
     except InputError as exc:
