@@ -121,12 +121,6 @@ def _cell(value: object) -> str:
     return str(value)
 
 
-def fail(message: str) -> None:
-    """Leave with a one-line user error (exit code 1)."""
-    click.echo(f"Error: {message}", err=True)
-    sys.exit(1)
-
-
 def open_logbook(db: str | None, *, check_schema: bool = True) -> Database:
     """Open the chosen database; unless told otherwise insist it is current."""
     from logbook.store.engine import Database

@@ -206,12 +206,6 @@ def import_files(
     return missing + import_batch(database, [(f, request) for f in files], on_file=on_file)
 
 
-def import_file(database: Database, path: Path, request: ImportRequest) -> FileResult:
-    """Import one file in its own transaction; never raises for a bad file."""
-    [result] = import_batch(database, [(path, request)])
-    return result
-
-
 def import_batch(
     database: Database,
     jobs: Sequence[tuple[Path, ImportRequest]],
