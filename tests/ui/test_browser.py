@@ -152,10 +152,23 @@ def navigate(tab: object, title: str) -> None:
     settle(tab)
 
 
-def choose(tab: object, index: int, option: str) -> None:
-    """Pick ``option`` in the page's ``index``-th selectbox."""
-    tab.get_by_test_id("stSelectbox").nth(index).click()  # type: ignore[attr-defined]
-    tab.get_by_role("option", name=option, exact=True).click()  # type: ignore[attr-defined]
+def choose(tab: object, index: int, option: str, within: object | None = None) -> None:
+    """Pick ``option`` in the ``index``-th selectbox of the page (or of ``within``).
+
+    A click that lands while the page is still drawing can leave the list closed, which
+    happened on a loaded CI machine; so the list is opened again, up to three times,
+    when its option has not shown within ten seconds."""
+    root = tab if within is None else within
+    wanted = tab.get_by_role("option", name=option, exact=True)  # type: ignore[attr-defined]
+    for _ in range(3):
+        root.get_by_test_id("stSelectbox").nth(index).click()  # type: ignore[attr-defined]
+        try:
+            wanted.wait_for(timeout=10_000)
+            break
+        except sync_api.TimeoutError:
+            tab.keyboard.press("Escape")  # type: ignore[attr-defined]
+            settle(tab)
+    wanted.click()
     settle(tab)
 
 

@@ -11,6 +11,7 @@ import pytest
 from tests.ui.small_logbook import build_small_logbook
 from tests.ui.test_browser import (  # noqa: F401  (page and server are fixtures)
     body,
+    choose,
     page,
     pytestmark,
     server,
@@ -41,9 +42,9 @@ def test_a_locked_run_is_refused_in_the_browser(
     visit(tab, f"{server}/setup", "Setup")
     tab.get_by_role("tab", name="Runs").click()  # type: ignore[attr-defined]
     panel = tab.get_by_role("tabpanel", name="Runs")  # type: ignore[attr-defined]
-    panel.get_by_test_id("stSelectbox").nth(1).click()  # the revision
-    tab.get_by_role("option", name="C", exact=True).click()  # type: ignore[attr-defined]
+    panel.get_by_text("Run to correct").wait_for()
     settle(tab)
+    choose(tab, 1, "C", within=panel)  # the revision
     run_id, _ = first_run(logbook_file, "C")
     assert f"Run {run_id} is used by issued acceptance report 1" in body(tab)
     operator = panel.get_by_label("Operator")
