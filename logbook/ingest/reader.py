@@ -89,6 +89,7 @@ def read_table(
     delimiter: str | None = None,
     decimal: str | None = None,
     max_abs: float = MAX_ABS_VALUE,
+    data: bytes | None = None,
 ) -> RawTable:
     """Read a CSV, TSV or Parquet file; every fault is an InputError naming file,
     line and column.
@@ -98,6 +99,9 @@ def read_table(
     decimal: ``"."`` or ``","``; sniffed when None (always ``"."`` with a comma
         delimiter).
     max_abs: finite values beyond this magnitude, and infinities, are rejected.
+    data: the file's bytes, when the caller has read them already (the importer
+        hashes them first): the file is then not read again, and the text is parsed
+        where it lies, with no copy.
     """
     name = str(path)
     if delimiter is not None and delimiter not in DELIMITERS:
@@ -108,9 +112,9 @@ def read_table(
         raise InputError("a decimal comma needs a ';' or tab delimiter, not ','", file=name)
     try:
         if Path(name).suffix.lower() == ".parquet":
-            table = _read_parquet(name)
+            table = _read_parquet(name, data)
         else:
-            table = _read_text(name, delimiter, decimal)
+            table = _read_text(name, delimiter, decimal, data)
     except OSError as exc:
         raise InputError(f"cannot open the file: {exc.strerror or exc}", file=name) from exc
     except InputError as exc:
@@ -136,21 +140,34 @@ class _Layout:
     decimal: str
 
 
-def _read_text(path: str, delimiter: str | None, decimal: str | None) -> RawTable:
-    with open(path, "rb") as fh:
-        layout = _read_layout(fh, path, delimiter, decimal)
-        fh.seek(layout.data_offset)
-        data = fh.read()
-    lines = _count_data_lines(data)
-    columns = _parse_plain(data, layout, lines)
+def _read_text(
+    path: str, delimiter: str | None, decimal: str | None, raw: bytes | None
+) -> RawTable:
+    """The text table of ``path`` (or of its bytes ``raw``). The data rows are
+    ``body[start:]``: the file's bytes after the header, never copied."""
+    if raw is None:
+        with open(path, "rb") as fh:
+            layout = _read_layout(fh, path, delimiter, decimal)
+            fh.seek(layout.data_offset)
+            # An exact size: an unsized read() after readline() is ten times slower here.
+            body, start = fh.read(os.fstat(fh.fileno()).st_size - layout.data_offset), 0
+    else:
+        with io.BytesIO(raw) as fh:  # shares raw's buffer
+            layout = _read_layout(fh, path, delimiter, decimal)
+        body, start = raw, layout.data_offset
+    lines = _count_data_lines(body, start)
+    columns = _parse_plain(body, start, layout, lines)
     if columns is None:
-        columns = _parse_general(data, path, layout, lines)
+        columns = _parse_general(body, start, path, layout, lines)
     return RawTable(path, columns, layout.metadata, layout.header_line + 1)
 
 
-def _parse_plain(data: bytes, layout: _Layout, lines: int) -> dict[str, np.ndarray] | None:
+def _parse_plain(
+    body: bytes, start: int, layout: _Layout, lines: int
+) -> dict[str, np.ndarray] | None:
     """The columns of plain numeric text, parsed by pyarrow's CSV reader (one thread:
-    batches of files already use every core); None when that fails, when its row
+    its threads were measured to slow batches down, as the callers already keep
+    both cores busy); None when that fails, when its row
     count is not ``lines`` or when a value is not finite. Those files are left to
     :func:`_parse_general`, which then decides exactly as for any other file."""
     if lines == 0:
@@ -170,7 +187,7 @@ def _parse_plain(data: bytes, layout: _Layout, lines: int) -> dict[str, np.ndarr
     }
     columns = {name: np.empty(lines) for name in layout.names}
     filled = 0
-    for piece in _pieces(data, PIECE_BYTES):
+    for piece in _pieces(body, start, PIECE_BYTES):
         try:
             table = pa_csv.read_csv(pa.BufferReader(piece), **options)
         except pa.ArrowException:
@@ -189,13 +206,13 @@ def _parse_plain(data: bytes, layout: _Layout, lines: int) -> dict[str, np.ndarr
     return columns
 
 
-def _pieces(data: bytes, size: int) -> Iterator[memoryview]:
-    """``data`` in pieces of whole lines of about ``size`` bytes (views, no copies)."""
-    view = memoryview(data)
-    start = 0
-    while start < len(data):
-        stop = data.find(b"\n", start + size) + 1 if start + size < len(data) else 0
-        stop = stop or len(data)
+def _pieces(body: bytes, start: int, size: int) -> Iterator[memoryview]:
+    """``body[start:]`` in pieces of whole lines of about ``size`` bytes (views, no
+    copies)."""
+    view = memoryview(body)
+    while start < len(body):
+        stop = body.find(b"\n", start + size) + 1 if start + size < len(body) else 0
+        stop = stop or len(body)
         yield view[start:stop]
         start = stop
 
@@ -206,7 +223,7 @@ def _float_values(column: pa.DoubleArray) -> np.ndarray:
 
 
 def _parse_general(
-    data: bytes, path: str, layout: _Layout, lines: int
+    body: bytes, start: int, path: str, layout: _Layout, lines: int
 ) -> dict[str, np.ndarray]:
     """The columns by pandas' C parser; any fault is diagnosed line by line. (pandas
     is imported here, when a file needs it: it takes longer to import than most
@@ -219,7 +236,7 @@ def _parse_general(
             # pandas only warns when every row is wider than the header: make it fail
             warnings.simplefilter("error", pd.errors.ParserWarning)
             frame = pd.read_csv(
-                io.BytesIO(data),
+                _from(body, start),
                 sep=layout.delimiter,
                 decimal=layout.decimal,
                 header=None,
@@ -236,19 +253,17 @@ def _parse_general(
     except pd.errors.EmptyDataError:
         raise InputError("no data rows after the header", file=path, line=first_data_line) from None
     except (ValueError, UnicodeDecodeError, pd.errors.ParserWarning) as exc:
-        _diagnose(data, path, layout)
+        _diagnose(body, start, path, layout)
         raise InputError(f"cannot be read as a table of numbers ({exc})", file=path) from exc
     if len(frame) == 0:
         raise InputError("no data rows after the header", file=path, line=first_data_line)
     if len(frame) != lines:
-        _diagnose(data, path, layout)
+        _diagnose(body, start, path, layout)
         raise InputError("the rows read do not match the lines of the file", file=path)
     return {n: frame[n].to_numpy(dtype=np.float64) for n in layout.names}
 
 
-def _read_layout(
-    fh: BinaryIO, path: str, delimiter: str | None, decimal: str | None
-) -> _Layout:
+def _read_layout(fh: BinaryIO, path: str, delimiter: str | None, decimal: str | None) -> _Layout:
     """Read metadata and the header row from the start of ``fh``, and settle
     delimiter and decimal mark (lines are read one by one, each at most
     MAX_LINE_BYTES, so a binary file is rejected without reading it whole)."""
@@ -410,28 +425,43 @@ def _check_names(names: list[str], path: str, line: int | None) -> None:
         seen.add(name)
 
 
-def _count_data_lines(data: bytes, *, block: int = 4096) -> int:
-    """Physical lines of ``data`` (the bytes after the header), trailing blank lines
-    not counted."""
-    end = len(data)
-    while end > 0:  # find the end of the last line with content, a block at a time
-        start = max(0, end - block)
-        kept = len(data[start:end].rstrip(b" \t\r\n"))
+def _count_data_lines(body: bytes, start: int, *, block: int = 4096) -> int:
+    """Physical lines of ``body[start:]`` (the bytes after the header), trailing blank
+    lines not counted."""
+    end = len(body)
+    while end > start:  # find the end of the last line with content, a block at a time
+        first = max(start, end - block)
+        kept = len(body[first:end].rstrip(b" \t\r\n"))
         if kept:
-            # numpy counts the newlines several times faster than bytes.count here
-            newlines = np.count_nonzero(np.frombuffer(data, np.uint8, start + kept) == 10)
-            return int(newlines) + 1
-        end = start
+            return _count_newlines(body, start, first + kept) + 1
+        end = first
     return 0
 
 
-def _diagnose(data: bytes, path: str, layout: _Layout) -> None:
+def _count_newlines(body: bytes, start: int, stop: int, *, block: int = 1 << 20) -> int:
+    """The b"\\n" in ``body[start:stop]``, by numpy (several times faster than
+    bytes.count here), a block at a time so that no file-sized temporary is made."""
+    count = 0
+    for first in range(start, stop, block):
+        text = np.frombuffer(body, np.uint8, min(block, stop - first), first)
+        count += int(np.count_nonzero(text == 10))
+    return count
+
+
+def _from(body: bytes, start: int) -> io.BytesIO:
+    """A file object reading ``body`` from ``start`` on (sharing its buffer)."""
+    fh = io.BytesIO(body)
+    fh.seek(start)
+    return fh
+
+
+def _diagnose(body: bytes, start: int, path: str, layout: _Layout) -> None:
     """Walk the data lines and raise an InputError for the first fault found."""
     width = len(layout.names)
     number = _NUMBER[layout.decimal]
     other_mark = "," if layout.decimal == "." else "."
     blank_line: int | None = None
-    with io.BytesIO(data) as fh:
+    with _from(body, start) as fh:
         lines = iter(lambda: fh.readline(MAX_LINE_BYTES + 1), b"")
         for line_no, raw in enumerate(lines, start=layout.header_line + 1):
             text = _decode(raw, path, line_no).strip()
@@ -481,12 +511,12 @@ def _diagnose(data: bytes, path: str, layout: _Layout) -> None:
 # --- Parquet -----------------------------------------------------------------------
 
 
-def _read_parquet(path: str) -> RawTable:
+def _read_parquet(path: str, raw: bytes | None) -> RawTable:
     """Numeric Parquet columns as float64; nulls become NaN. Lines are row numbers."""
     import pyarrow.parquet as pq
 
     try:
-        table = pq.read_table(path)
+        table = pq.read_table(path if raw is None else pa.BufferReader(raw))
     except (pa.ArrowException, ValueError) as exc:
         raise InputError(f"not a readable Parquet file ({exc})", file=path) from exc
     if table.num_columns == 0 or table.num_rows == 0:
