@@ -12,13 +12,13 @@ from __future__ import annotations
 import multiprocessing
 import os
 from collections.abc import Iterator
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 
 import click
 
 from logbook.analysis import METRICS, AnalysisSettings, TraceAnalysis, analyze_trace
 from logbook.analysis.catalog import resolve_unit
-from logbook.cli.base import analysis_settings, json_option, print_json, print_table
+from logbook.cli.base import analysis_settings, json_option, json_text, print_table
 from logbook.errors import InputError
 from logbook.trace import Role
 
@@ -44,6 +44,15 @@ class FileReport:
     analysis: TraceAnalysis | None
     feedback_unit: str
     error: str | None
+    #: The --json line, when asked for (written where the file was analysed, so a
+    #: worker process sends back one string rather than the analysis).
+    json_line: str = ""
+
+    def for_json(self) -> FileReport:
+        """This report reduced to its JSON line (the analysis is dropped)."""
+        steps = None if self.analysis is None else self.analysis.to_json()
+        line = json_text({"file": self.path, "steps": steps, "error": self.error})
+        return replace(self, analysis=None, json_line=line)
 
 
 @click.command("analyze")
@@ -76,13 +85,12 @@ def analyze_command(
     settings = analysis_settings(band, rise)
     columns = _Columns(time_col, setpoint_col, feedback_col, effort_col)
     failed = False
-    for report in _reports(list(files), columns, settings):
+    for report in _reports(list(files), columns, settings, as_json=as_json):
         if report.error is not None:
             failed = True
             click.echo(f"Error: {report.error}", err=True)
         if as_json:
-            steps = None if report.analysis is None else report.analysis.to_json()
-            print_json({"file": report.path, "steps": steps, "error": report.error})
+            click.echo(report.json_line)
         elif report.analysis is not None:
             _print_report(report)
     if failed:
@@ -110,12 +118,14 @@ def analyze_file(path: str, columns: _Columns, settings: AnalysisSettings) -> Fi
     return FileReport(path, analysis, feedback.unit if feedback is not None else "", None)
 
 
-def _analyze_job(job: tuple[str, _Columns, AnalysisSettings]) -> FileReport:
-    return analyze_file(*job)
+def _analyze_job(job: tuple[str, _Columns, AnalysisSettings, bool]) -> FileReport:
+    path, columns, settings, as_json = job
+    report = analyze_file(path, columns, settings)
+    return report.for_json() if as_json else report
 
 
 def _reports(
-    paths: list[str], columns: _Columns, settings: AnalysisSettings
+    paths: list[str], columns: _Columns, settings: AnalysisSettings, *, as_json: bool
 ) -> Iterator[FileReport]:
     """Reports in input order; a worker pool for large batches on several cores."""
     cores = (
@@ -127,14 +137,14 @@ def _reports(
         or workers < 2
         or "fork" not in (multiprocessing.get_all_start_methods())
     ):
-        yield from (analyze_file(path, columns, settings) for path in paths)
+        yield from (_analyze_job((path, columns, settings, as_json)) for path in paths)
         return
     # fork: workers inherit the parent's modules; import the reader here once
     # rather than in every worker.
     from logbook.ingest import reader  # noqa: F401
 
     with multiprocessing.get_context("fork").Pool(workers) as pool:
-        jobs = ((path, columns, settings) for path in paths)
+        jobs = ((path, columns, settings, as_json) for path in paths)
         yield from pool.imap(_analyze_job, jobs, chunksize=CHUNK)
 
 

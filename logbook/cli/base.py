@@ -89,9 +89,14 @@ def json_option(func: Callable[..., Any]) -> Callable[..., Any]:
     return click.option("--json", "as_json", is_flag=True, help="Print JSON for scripts.")(func)
 
 
+def json_text(payload: object) -> str:
+    """``payload`` as one line of JSON; dates as ISO 8601, other objects through ``str``."""
+    return json.dumps(payload, default=_json_default, ensure_ascii=False)
+
+
 def print_json(payload: object) -> None:
-    """Print ``payload`` as JSON; dates as ISO 8601, other objects through ``str``."""
-    click.echo(json.dumps(payload, default=_json_default, ensure_ascii=False))
+    """Print ``payload`` as JSON (see :func:`json_text`)."""
+    click.echo(json_text(payload))
 
 
 def _json_default(value: object) -> object:
