@@ -17,7 +17,9 @@ checked.
 from __future__ import annotations
 
 import glob
-from collections.abc import Callable, Iterable, Mapping, Sequence
+from collections import deque
+from collections.abc import Callable, Iterable, Iterator, Mapping, Sequence
+from concurrent.futures import Future, ThreadPoolExecutor
 from dataclasses import dataclass, field
 from datetime import UTC, datetime
 from enum import StrEnum
@@ -40,6 +42,7 @@ from logbook.services.profiles import list_profiles, unknown_profile
 from logbook.store.engine import Database
 from logbook.store.models import TEST_KINDS, Axis, GainSet, HardwareRevision, TestRun
 from logbook.store.runs import (
+    EncodedTrace,
     RunConditions,
     RunEvidence,
     add_run,
@@ -51,6 +54,9 @@ from logbook.store.runs import (
 CAPTURE_SUFFIXES = (".csv", ".tsv", ".txt", ".parquet")
 COLUMNS_PROFILE = "(columns)"  # name of the one-off profile built from column options
 COMMIT_ATTEMPTS = 3  # a file's transaction is retried after a unique-key clash
+#: Files prepared ahead of the one being written, and the most bytes of them.
+PREPARE_AHEAD = 2
+PREPARE_AHEAD_BYTES = 64 << 20
 _GLOB_CHARS = set("*?[")
 
 
@@ -218,14 +224,14 @@ def import_batch(
     converted, analysed, encoded) without the database and written in one short
     transaction. ``on_file`` is called after each file.
 
-    Files are prepared one after another: a pool of worker processes was measured
-    slower here (benchmarks/bench_import.py), as the reader already parses on
-    several threads and the writer then competes with the workers for the cores.
+    While one file is written, helper threads prepare the next ones: the parser, the
+    hashing and the compressors release the GIL, and so does SQLite while it writes,
+    so they overlap on two cores (see :func:`_prepared_in_turn` for the bounds). A
+    pool of worker processes was measured slower (benchmarks/bench_import.py).
     """
     snapshot = load_snapshot(database)
     results = []
-    for path, request in jobs:
-        prepared = prepare_file(path, request, snapshot)
+    for prepared in _prepared_in_turn(jobs, snapshot):
         result = prepared if isinstance(prepared, FileResult) else _commit(database, prepared)
         results.append(result)
         if on_file:
@@ -233,23 +239,84 @@ def import_batch(
     return results
 
 
-@dataclass(frozen=True)
+def _prepared_in_turn(
+    jobs: Sequence[tuple[Path, ImportRequest]], snapshot: CatalogSnapshot
+) -> Iterator[Prepared | FileResult]:
+    """Each job prepared, in order. While the caller writes one file, helper threads
+    prepare the next: up to PREPARE_AHEAD files and PREPARE_AHEAD_BYTES of them (but
+    always one), which bounds the memory a batch of large files takes. A single file
+    is prepared on this thread: it has nothing to overlap with, and a helper thread's
+    malloc arena would add to a large file's peak memory."""
+    if len(jobs) <= 1:
+        yield from (prepare_file(path, request, snapshot) for path, request in jobs)
+        return
+    waiting = deque(jobs)
+    coming: deque[tuple[Future[Prepared | FileResult], int]] = deque()
+    with ThreadPoolExecutor(PREPARE_AHEAD, thread_name_prefix="logbook-prepare") as helper:
+
+        def fill() -> None:
+            while waiting and len(coming) < PREPARE_AHEAD:
+                size = _file_size(waiting[0][0])
+                if coming and sum(s for _, s in coming) + size > PREPARE_AHEAD_BYTES:
+                    return
+                path, request = waiting.popleft()
+                coming.append((helper.submit(prepare_file, path, request, snapshot), size))
+
+        fill()
+        while coming:
+            current = coming.popleft()[0].result()
+            fill()
+            yield current
+
+
+def _file_size(path: Path) -> int:
+    """The file's size, 0 when it cannot be read (its preparation then says why)."""
+    try:
+        return path.stat().st_size
+    except OSError:
+        return 0
+
+
+@dataclass
 class Prepared:
-    """A file read, converted, analysed and encoded, ready for its transaction."""
+    """A file read, converted, analysed and its trace encoded, ready to be written.
+
+    The original bytes are compressed by :meth:`evidence`, on the writing thread:
+    that balances the two threads of :func:`import_batch`, and a dry run skips it.
+    """
 
     name: str
     axis: str
     request: ImportRequest
     fields: RunFields
     conflicts: tuple[str, ...]
-    evidence: RunEvidence
+    raw: bytes
+    sha256: str
+    encoded: EncodedTrace
+    profile_name: str | None
     analysis: TraceAnalysis
     test_kind: str
     modified_at: datetime
+    _evidence: RunEvidence | None = field(default=None, repr=False)
 
     @property
     def steps(self) -> tuple[dict[str, float | None], ...]:
         return tuple(step.to_json() for step in self.analysis.steps)
+
+    def evidence(self) -> RunEvidence:
+        """What the run stores of its file. The original bytes are compressed, then
+        let go of: only their compressed copy is in memory while the rows are
+        inserted (which keeps a large file's import under 4x its size)."""
+        if self._evidence is None:
+            self._evidence = RunEvidence.from_encoded(
+                Path(self.name).name,
+                self.raw,
+                self.encoded,
+                sha256=self.sha256,
+                profile_name=self.profile_name,
+            )
+            self.raw = b""
+        return self._evidence
 
 
 def prepare_file(
@@ -286,9 +353,9 @@ def _prepare(
         else None
     )
     if named is not None:
-        table = read_table(path, delimiter=named.delimiter, decimal=named.decimal)
+        table = read_table(path, delimiter=named.delimiter, decimal=named.decimal, data=raw)
     else:
-        table = read_table(path)
+        table = read_table(path, data=raw)
     fields, conflicts = merge_run_fields(
         parse_run_fields(table.metadata, file=name), request.run_fields
     )
@@ -311,20 +378,16 @@ def _prepare(
         raise exc.located(name) from None
     test_kind = fields.test_kind or ("speed_step" if profile.speed else "position_step")
     catalog.require_choice("test kind", test_kind, TEST_KINDS)
-    evidence = RunEvidence.from_trace(
-        path.name,
-        raw,
-        trace,
-        sha256=digest,
-        profile_name=None if profile.name == COLUMNS_PROFILE else profile.name,
-    )
     return Prepared(
         name,
         axis_name,
         request,
         fields,
         tuple(conflicts),
-        evidence,
+        raw,
+        digest,
+        EncodedTrace.of(trace),
+        None if profile.name == COLUMNS_PROFILE else profile.name,
         analysis,
         test_kind,
         modified_at,
@@ -348,9 +411,10 @@ def _commit(database: Database, prepared: Prepared) -> FileResult:
     as the analysis settings or inline gains (the retry then uses that row). Only
     PostgreSQL lets writers overlap like this; SQLite write sessions queue.
     """
+    evidence = None if prepared.request.dry_run else prepared.evidence()
     for _attempt in range(COMMIT_ATTEMPTS):
         try:
-            return _commit_once(database, prepared)
+            return _commit_once(database, prepared, evidence)
         except IntegrityError:
             continue
         except InputError as exc:
@@ -366,15 +430,18 @@ def _commit(database: Database, prepared: Prepared) -> FileResult:
     )
 
 
-def _commit_once(database: Database, prepared: Prepared) -> FileResult:
+def _commit_once(
+    database: Database, prepared: Prepared, evidence: RunEvidence | None
+) -> FileResult:
+    """One try at the file's transaction; ``evidence`` is None in a dry run."""
     name = prepared.name
-    with database.session(write=not prepared.request.dry_run) as session:
+    with database.session(write=evidence is not None) as session:
         axis = catalog.get_axis(session, prepared.axis)
-        existing = find_run_by_hash(session, axis, prepared.evidence.sha256)
+        existing = find_run_by_hash(session, axis, prepared.sha256)
         if existing is not None:  # imported earlier in this batch, or by another process
             return _duplicate(name, existing.id, "imported meanwhile")
         revision, gain_set = _references(session, axis, prepared)
-        if prepared.request.dry_run:
+        if evidence is None:
             return FileResult(
                 name,
                 Outcome.CHECKED,
@@ -382,7 +449,7 @@ def _commit_once(database: Database, prepared: Prepared) -> FileResult:
                 conflicts=prepared.conflicts,
                 steps=prepared.steps,
             )
-        run_id = _write(session, axis, revision, gain_set, prepared)
+        run_id = _write(session, axis, revision, gain_set, prepared, evidence)
     return FileResult(
         name,
         Outcome.IMPORTED,
@@ -458,7 +525,12 @@ def _axis_info(axis: Axis) -> AxisInfo:
 
 
 def _write(
-    session: Session, axis: Axis, revision: HardwareRevision, gain_set: GainSet, prepared: Prepared
+    session: Session,
+    axis: Axis,
+    revision: HardwareRevision,
+    gain_set: GainSet,
+    prepared: Prepared,
+    evidence: RunEvidence,
 ) -> int:
     fields = prepared.fields
     notes = fields.notes or ""
@@ -481,7 +553,7 @@ def _write(
             temperature_c=fields.temperature_c,
             notes=notes,
         ),
-        evidence=prepared.evidence,
+        evidence=evidence,
     )
     save_analysis(session, run, prepared.analysis)
     return run.id

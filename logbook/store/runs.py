@@ -54,12 +54,33 @@ class RunConditions:
 
 
 @dataclass(frozen=True)
+class EncodedTrace:
+    """A trace as it is stored: Parquet bytes, sample count, (name, role, unit) per
+    channel in column order, and its data-quality figures."""
+
+    samples: bytes
+    sample_count: int
+    channels: tuple[tuple[str, str, str], ...]
+    data_quality: dict[str, float]
+
+    @classmethod
+    def of(cls, trace: Trace) -> EncodedTrace:
+        return cls(
+            samples=encode_samples(trace),
+            sample_count=len(trace),
+            channels=tuple((c.name, c.role.value, c.unit) for c in trace.channels),
+            data_quality=dict(trace.quality),
+        )
+
+
+@dataclass(frozen=True)
 class RunEvidence:
     """A source file and the trace decoded from it, encoded as they are stored.
 
-    Build it with :meth:`from_trace`; encoding (Parquet, zstd, SHA-256) is the
-    expensive part of a write and needs no database, so an importer can do it in
-    worker processes and hand the result to the one that writes.
+    Build it with :meth:`from_trace`, or with :meth:`from_encoded` when the trace
+    was encoded elsewhere. Encoding (Parquet, compression, SHA-256) is the expensive part
+    of a write and needs no database, so an importer can do it beside the write of
+    another file (see ``services.importing.import_batch``).
     """
 
     source_name: str
@@ -83,16 +104,32 @@ class RunEvidence:
         profile_name: str | None = None,
     ) -> RunEvidence:
         """Encode ``raw_bytes`` and ``trace``; pass ``sha256`` when already known."""
+        encoded = EncodedTrace.of(trace)
+        return cls.from_encoded(
+            source_name, raw_bytes, encoded, sha256=sha256, profile_name=profile_name
+        )
+
+    @classmethod
+    def from_encoded(
+        cls,
+        source_name: str,
+        raw_bytes: bytes,
+        encoded: EncodedTrace,
+        *,
+        sha256: str | None = None,
+        profile_name: str | None = None,
+    ) -> RunEvidence:
+        """Compress ``raw_bytes`` beside the already encoded trace."""
         return cls(
             source_name=source_name,
             sha256=sha256 or file_digest(raw_bytes),
             raw_size=len(raw_bytes),
             raw_compressed=compress_raw(raw_bytes),
-            samples=encode_samples(trace),
-            sample_count=len(trace),
-            channels=tuple((c.name, c.role.value, c.unit) for c in trace.channels),
+            samples=encoded.samples,
+            sample_count=encoded.sample_count,
+            channels=encoded.channels,
             profile_name=profile_name,
-            data_quality=dict(trace.quality),
+            data_quality=dict(encoded.data_quality),
         )
 
 

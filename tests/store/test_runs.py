@@ -2,10 +2,13 @@
 
 from __future__ import annotations
 
+import io
 import struct
 from datetime import UTC, datetime, timedelta, timezone
 
 import numpy as np
+import pyarrow as pa
+import pyarrow.parquet as pq
 import pytest
 from sqlalchemy import delete, select, text, update
 from sqlalchemy.exc import IntegrityError
@@ -59,6 +62,15 @@ def test_trace_blob_round_trip_is_bit_exact() -> None:
     )
     assert _bits(back.channels[1].values) == _bits(awkward)
     assert back.channels[1].values.dtype == np.float64
+
+
+def test_traces_written_with_the_earlier_zstd_codec_still_decode() -> None:
+    values = np.linspace(-1.0, 1.0, 1_000) ** 3
+    table = pa.table({"t [s]": np.arange(1_000) / 1e3, "value": values})
+    sink = io.BytesIO()
+    pq.write_table(table, sink, compression="zstd", compression_level=1)  # "parquet-zstd-v1"
+    back = decode_samples(sink.getvalue(), [("t [s]", "time", "s"), ("value", "feedback", "mm")])
+    assert _bits(back.channels[1].values) == _bits(values)
 
 
 def test_run_round_trip_through_the_database(database: Database) -> None:
