@@ -282,7 +282,8 @@ class Prepared:
     """A file read, converted, analysed and its trace encoded, ready to be written.
 
     The original bytes are compressed by :meth:`evidence`, on the writing thread:
-    that balances the two threads of :func:`import_batch`, and a dry run skips it.
+    that balances the preparing and the writing threads of :func:`import_batch`, and
+    a dry run skips it.
     """
 
     name: str

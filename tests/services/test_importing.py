@@ -13,7 +13,13 @@ from logbook.errors import InputError
 from logbook.ingest.metadata import RunFields
 from logbook.ingest.profiles import profile_from_dict
 from logbook.services import catalog, profiles
-from logbook.services.importing import ColumnChoice, ImportRequest, Outcome, import_files
+from logbook.services.importing import (
+    ColumnChoice,
+    ImportRequest,
+    Outcome,
+    import_batch,
+    import_files,
+)
 from logbook.store import runs as store_runs
 from logbook.store.engine import Database
 from logbook.store.models import AnalysisResult, TestRun, Trace
@@ -82,6 +88,39 @@ def test_one_bad_file_never_stops_the_batch(bench: Database, tmp_path: Path) -> 
     assert bad.outcome is Outcome.REJECTED
     assert "capture_0000x.csv, line 3, column 'position [mm]'" in bad.message
     assert sum(r.outcome is Outcome.IMPORTED for r in results) == 2
+
+
+@pytest.mark.parametrize("ahead_bytes", [64 << 20, 1], ids=["in-budget", "one-at-a-time"])
+def test_files_prepared_ahead_come_back_in_order(
+    bench: Database, tmp_path: Path, monkeypatch: pytest.MonkeyPatch, ahead_bytes: int
+) -> None:
+    """Files are prepared on helper threads while another is written; the outcomes
+    still follow the input, a bad file in the middle changes nothing else, and the
+    same bytes twice in one batch are caught when the second is written."""
+    monkeypatch.setattr("logbook.services.importing.PREPARE_AHEAD_BYTES", ahead_bytes)
+    good = write_batch(tmp_path / "caps", 4)
+    bad = tmp_path / "caps" / "bad.csv"
+    bad.write_text("t [s],setpoint [mm],position [mm]\n0,0,0\n0.001,1\n")
+    twin = tmp_path / "twin.csv"
+    twin.write_bytes(good[0].read_bytes())
+    order = [good[0], good[1], bad, twin, good[2], good[3]]
+    results = import_batch(bench, [(path, REQUEST) for path in order])
+    assert [r.path for r in results] == [str(path) for path in order]
+    assert [r.outcome for r in results] == [
+        Outcome.IMPORTED,
+        Outcome.IMPORTED,
+        Outcome.REJECTED,
+        Outcome.DUPLICATE,
+        Outcome.IMPORTED,
+        Outcome.IMPORTED,
+    ]
+    assert "imported meanwhile as run" in results[3].message
+    assert count(bench, TestRun) == 4
+    with bench.session() as session:
+        for path, result in zip(order, results, strict=True):
+            if result.outcome is Outcome.IMPORTED:
+                run = session.get(TestRun, result.run_id)
+                assert store_runs.load_raw_file(session, run) == path.read_bytes()
 
 
 def test_dry_run_writes_nothing(bench: Database, tmp_path: Path) -> None:
