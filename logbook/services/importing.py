@@ -39,10 +39,10 @@ from logbook.ingest.profiles import ImportProfile
 from logbook.ingest.reader import RawTable, read_table
 from logbook.services import catalog
 from logbook.services.profiles import list_profiles, unknown_profile
+from logbook.store.blobs import compress_raw
 from logbook.store.engine import Database
 from logbook.store.models import TEST_KINDS, Axis, GainSet, HardwareRevision, TestRun
 from logbook.store.runs import (
-    EncodedTrace,
     RunConditions,
     RunEvidence,
     add_run,
@@ -277,47 +277,25 @@ def _file_size(path: Path) -> int:
         return 0
 
 
-@dataclass
+@dataclass(frozen=True)
 class Prepared:
-    """A file read, converted, analysed and its trace encoded, ready to be written.
-
-    The original bytes are compressed by :meth:`evidence`, on the writing thread:
-    that balances the preparing and the writing threads of :func:`import_batch`, and
-    a dry run skips it.
-    """
+    """A file read, converted, analysed and encoded, ready for its transaction
+    (``evidence`` is None in a dry run, which stores nothing)."""
 
     name: str
     axis: str
     request: ImportRequest
     fields: RunFields
     conflicts: tuple[str, ...]
-    raw: bytes
     sha256: str
-    encoded: EncodedTrace
-    profile_name: str | None
+    evidence: RunEvidence | None
     analysis: TraceAnalysis
     test_kind: str
     modified_at: datetime
-    _evidence: RunEvidence | None = field(default=None, repr=False)
 
     @property
     def steps(self) -> tuple[dict[str, float | None], ...]:
         return tuple(step.to_json() for step in self.analysis.steps)
-
-    def evidence(self) -> RunEvidence:
-        """What the run stores of its file. The original bytes are compressed, then
-        let go of: only their compressed copy is in memory while the rows are
-        inserted (which keeps a large file's import under 4x its size)."""
-        if self._evidence is None:
-            self._evidence = RunEvidence.from_encoded(
-                Path(self.name).name,
-                self.raw,
-                self.encoded,
-                sha256=self.sha256,
-                profile_name=self.profile_name,
-            )
-            self.raw = b""
-        return self._evidence
 
 
 def prepare_file(
@@ -348,6 +326,10 @@ def _prepare(
         run_id = snapshot.digests.get(request.axis, {}).get(digest)
         if run_id is not None:
             return _duplicate(name, run_id, "already in the logbook")
+    # Compressed before the parse, so that the file's bytes can go once the trace
+    # exists: they are not in memory while the trace is encoded (peak memory).
+    compressed = None if request.dry_run else compress_raw(raw)
+    size = len(raw)
     named = (
         snapshot.profile(request.axis, request.profile)
         if request.profile is not None and request.axis is not None
@@ -372,23 +354,31 @@ def _prepare(
     else:
         profile = profile_for_columns(table, axis_name, request.columns)
     trace = trace_from_profile(table, profile, axis)
-    del table  # the trace holds what is needed; free the rest before analysing
+    del table, raw  # the trace holds what is needed; free the rest before analysing
     try:
         analysis = analyze_trace(trace, settings=request.settings)
     except InputError as exc:
         raise exc.located(name) from None
     test_kind = fields.test_kind or ("speed_step" if profile.speed else "position_step")
     catalog.require_choice("test kind", test_kind, TEST_KINDS)
+    evidence = None
+    if compressed is not None:
+        evidence = RunEvidence.from_compressed(
+            path.name,
+            digest,
+            size,
+            compressed,
+            trace,
+            profile_name=None if profile.name == COLUMNS_PROFILE else profile.name,
+        )
     return Prepared(
         name,
         axis_name,
         request,
         fields,
         tuple(conflicts),
-        raw,
         digest,
-        EncodedTrace.of(trace),
-        None if profile.name == COLUMNS_PROFILE else profile.name,
+        evidence,
         analysis,
         test_kind,
         modified_at,
@@ -412,10 +402,9 @@ def _commit(database: Database, prepared: Prepared) -> FileResult:
     as the analysis settings or inline gains (the retry then uses that row). Only
     PostgreSQL lets writers overlap like this; SQLite write sessions queue.
     """
-    evidence = None if prepared.request.dry_run else prepared.evidence()
     for _attempt in range(COMMIT_ATTEMPTS):
         try:
-            return _commit_once(database, prepared, evidence)
+            return _commit_once(database, prepared)
         except IntegrityError:
             continue
         except InputError as exc:
@@ -431,11 +420,9 @@ def _commit(database: Database, prepared: Prepared) -> FileResult:
     )
 
 
-def _commit_once(
-    database: Database, prepared: Prepared, evidence: RunEvidence | None
-) -> FileResult:
-    """One try at the file's transaction; ``evidence`` is None in a dry run."""
-    name = prepared.name
+def _commit_once(database: Database, prepared: Prepared) -> FileResult:
+    """One try at the file's transaction (a read-only one in a dry run)."""
+    name, evidence = prepared.name, prepared.evidence
     with database.session(write=evidence is not None) as session:
         axis = catalog.get_axis(session, prepared.axis)
         existing = find_run_by_hash(session, axis, prepared.sha256)

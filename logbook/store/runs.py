@@ -54,33 +54,12 @@ class RunConditions:
 
 
 @dataclass(frozen=True)
-class EncodedTrace:
-    """A trace as it is stored: Parquet bytes, sample count, (name, role, unit) per
-    channel in column order, and its data-quality figures."""
-
-    samples: bytes
-    sample_count: int
-    channels: tuple[tuple[str, str, str], ...]
-    data_quality: dict[str, float]
-
-    @classmethod
-    def of(cls, trace: Trace) -> EncodedTrace:
-        return cls(
-            samples=encode_samples(trace),
-            sample_count=len(trace),
-            channels=tuple((c.name, c.role.value, c.unit) for c in trace.channels),
-            data_quality=dict(trace.quality),
-        )
-
-
-@dataclass(frozen=True)
 class RunEvidence:
     """A source file and the trace decoded from it, encoded as they are stored.
 
-    Build it with :meth:`from_trace`, or with :meth:`from_encoded` when the trace
-    was encoded elsewhere. Encoding (Parquet, compression, SHA-256) is the expensive part
-    of a write and needs no database, so an importer can do it beside the write of
-    another file (see ``services.importing.import_batch``).
+    Build it with :meth:`from_trace`; encoding (Parquet, compression, SHA-256) is
+    the expensive part of a write and needs no database, so an importer does it on
+    helper threads and hands the result to the one that writes.
     """
 
     source_name: str
@@ -104,32 +83,39 @@ class RunEvidence:
         profile_name: str | None = None,
     ) -> RunEvidence:
         """Encode ``raw_bytes`` and ``trace``; pass ``sha256`` when already known."""
-        encoded = EncodedTrace.of(trace)
-        return cls.from_encoded(
-            source_name, raw_bytes, encoded, sha256=sha256, profile_name=profile_name
+        return cls.from_compressed(
+            source_name,
+            sha256 or file_digest(raw_bytes),
+            len(raw_bytes),
+            compress_raw(raw_bytes),
+            trace,
+            profile_name=profile_name,
         )
 
     @classmethod
-    def from_encoded(
+    def from_compressed(
         cls,
         source_name: str,
-        raw_bytes: bytes,
-        encoded: EncodedTrace,
+        sha256: str,
+        raw_size: int,
+        raw_compressed: bytes,
+        trace: Trace,
         *,
-        sha256: str | None = None,
         profile_name: str | None = None,
     ) -> RunEvidence:
-        """Compress ``raw_bytes`` beside the already encoded trace."""
+        """Encode ``trace`` beside an original file compressed earlier (by
+        :func:`~logbook.store.blobs.compress_raw`), so that a caller can let go of the
+        file's bytes before the trace is encoded."""
         return cls(
             source_name=source_name,
-            sha256=sha256 or file_digest(raw_bytes),
-            raw_size=len(raw_bytes),
-            raw_compressed=compress_raw(raw_bytes),
-            samples=encoded.samples,
-            sample_count=encoded.sample_count,
-            channels=encoded.channels,
+            sha256=sha256,
+            raw_size=raw_size,
+            raw_compressed=raw_compressed,
+            samples=encode_samples(trace),
+            sample_count=len(trace),
+            channels=tuple((c.name, c.role.value, c.unit) for c in trace.channels),
             profile_name=profile_name,
-            data_quality=dict(encoded.data_quality),
+            data_quality=dict(trace.quality),
         )
 
 
@@ -259,5 +245,5 @@ def save_analysis(session: Session, run: TestRun, analysis: TraceAnalysis) -> in
         for name, figure in step.figures.items()
     ]
     if rows:  # one executemany, not an ORM object per figure
-        session.execute(insert(AnalysisResult), rows)
+        session.execute(insert(AnalysisResult.__table__), rows)
     return len(rows)
