@@ -211,3 +211,37 @@ def test_other_nan_spellings_are_text(tmp_path: Path) -> None:
     path.write_text("t,sp\n0.0,1\n0.1,NAN\n")
     with pytest.raises(InputError, match=r"line 3, column 'sp': text 'NAN' in a numeric column"):
         read_table(path)
+
+
+def _outcome(path: Path, **kwargs: object) -> object:
+    """What read_table makes of a file: its table's contents, or its error message."""
+    try:
+        table = read_table(path, **kwargs)
+    except InputError as exc:
+        return str(exc)
+    columns = {name: values.tobytes() for name, values in table.columns.items()}
+    return columns, table.metadata, table.first_data_line
+
+
+MALFORMED = Path(__file__).parent / "malformed"
+
+
+@pytest.mark.parametrize(
+    "path",
+    sorted(GOOD.glob("*.[ct]sv")) + sorted(MALFORMED.glob("*.csv")),
+    ids=lambda path: path.name,
+)
+def test_bytes_already_read_give_what_the_file_gives(path: Path) -> None:
+    """The importer hands over the bytes it hashed (``data=``); every good and every
+    malformed file must read the same, table or error, as from its path."""
+    assert _outcome(path, data=path.read_bytes()) == _outcome(path)
+
+
+def test_parquet_bytes_already_read_give_what_the_file_gives(tmp_path: Path) -> None:
+    path = tmp_path / "capture.parquet"
+    pd.DataFrame({"t [s]": [0.0, 0.01, 0.02], "pos": [0.0, 0.5, 1.0]}).to_parquet(path)
+    assert _outcome(path, data=path.read_bytes()) == _outcome(path)
+    corrupt = tmp_path / "corrupt.parquet"
+    corrupt.write_bytes(b"PAR1 not really")
+    message = _outcome(corrupt, data=corrupt.read_bytes())
+    assert isinstance(message, str) and "not a readable Parquet file" in message
