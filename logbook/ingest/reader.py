@@ -166,10 +166,10 @@ def _parse_plain(
     body: bytes, start: int, layout: _Layout, lines: int
 ) -> dict[str, np.ndarray] | None:
     """The columns of plain numeric text, parsed by pyarrow's CSV reader (one thread:
-    its threads were measured to slow batches down, as the callers already keep
-    both cores busy); None when that fails, when its row
-    count is not ``lines`` or when a value is not finite. Those files are left to
-    :func:`_parse_general`, which then decides exactly as for any other file."""
+    its threads were measured to slow batches down, as the callers already keep both
+    cores busy); None when that fails, when its row count is not ``lines`` or when a
+    value is not finite. Those files are left to :func:`_parse_general`, which then
+    decides exactly as for any other file."""
     if lines == 0:
         return None
     options = {
