@@ -1,7 +1,7 @@
 """End to end in a real browser: ``logbook ui`` on a free loopback port, driven by
 Playwright with Debian's Chromium; every page opened, a run selected, screenshots saved.
 
-The logbook is the demo's when ``logbook demo`` exists, else the small test logbook.
+The logbook is the demo's, built by ``logbook demo``.
 Screenshots go to the test's temporary folder, and also to $LOGBOOK_SCREENSHOT_DIR
 when it is set (``docs/screenshots`` refreshes the README's pictures).
 """
@@ -21,12 +21,10 @@ from pathlib import Path
 
 import pytest
 
-from logbook.cli import main as cli_main
 from logbook.services import views
 from logbook.store.config import resolve_url
 from logbook.store.engine import Database
 from tests.services.capture_files import write_capture
-from tests.ui.small_logbook import build_small_logbook
 
 CHROMIUM = "/usr/bin/chromium"
 SCREENSHOT_ENV = "LOGBOOK_SCREENSHOT_DIR"
@@ -50,17 +48,14 @@ def free_port() -> int:
 
 @pytest.fixture(scope="module")
 def logbook_file(tmp_path_factory: pytest.TempPathFactory) -> Path:
-    folder = tmp_path_factory.mktemp("browser-logbook")
-    path = folder / "logbook.db"
-    if "demo" in cli_main.commands:
-        subprocess.run(
-            [sys.executable, "-m", "logbook", "demo", "--db", str(path)],
-            check=True,
-            capture_output=True,
-            timeout=300,
-        )
-    else:
-        build_small_logbook(path, folder / "captures")
+    """The demo's logbook, built by ``logbook demo`` as a newcomer would."""
+    path = tmp_path_factory.mktemp("browser-logbook") / "logbook.db"
+    subprocess.run(
+        [sys.executable, "-m", "logbook", "demo", "--db", str(path)],
+        check=True,
+        capture_output=True,
+        timeout=300,
+    )
     return path
 
 
