@@ -67,6 +67,14 @@ def test_installed_wheel_creates_a_database_and_the_demo(tmp_path: Path) -> None
         check=True,
     ).stdout.strip()
     assert str(venv) in where, f"migrations came from {where}, not the installed wheel"
+    native = subprocess.run(
+        [str(python), "-c", "import logbook_plaintext as m; print(m.__file__)"],
+        cwd=elsewhere,
+        capture_output=True,
+        text=True,
+        check=False,
+    )
+    assert str(venv) in native.stdout, f"the compiled reader is not in the wheel: {native.stderr}"
     result = subprocess.run(
         [str(venv / "bin" / "logbook"), "init", "--db", "wheel.db"],
         cwd=elsewhere,

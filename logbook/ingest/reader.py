@@ -1,14 +1,23 @@
 """Read a capture file (CSV, TSV or Parquet) into named float64 columns.
 
-A text file is read once. Its data part is parsed by pyarrow's CSV reader (one
-thread) when it is plain: unquoted finite numbers, as many rows as the file has
-data lines. Any other file (quoted cells, NaN or infinity spellings, blank lines
-inside the data, every fault) is parsed by pandas' C parser; on every file the
-plain parse accepts, the two give the same values (both round correctly). When the
-pandas parse fails too, or its row count does not match the file's lines, a
-line-by-line pass finds the first fault and reports it with the file, the 1-based
-physical line and the column, so the fast paths never have to keep track of where
-they are.
+A text file is read once. Its data part goes to the first of three parsers that
+accepts it:
+
+1. the compiled plain-text parser ``logbook_plaintext`` (``native/plaintext.c``):
+   unquoted numbers without spaces, of at most about 15 significant digits and a
+   moderate exponent, as many rows as the file has data lines: what bench loggers
+   write. Several times faster than the next;
+2. pyarrow's CSV reader (one thread) for other plain files: unquoted finite
+   numbers of any length, as many rows as the file has data lines (and for every
+   plain file when the package was built without a C compiler);
+3. pandas' C parser for any other file (quoted cells, NaN or infinity spellings,
+   spaces around numbers, blank lines inside the data, every fault).
+
+All three round correctly, so a file's values do not depend on which parser read
+it. When the pandas parse fails too, or its row count does not match the file's
+lines, a line-by-line pass finds the first fault and reports it with the file, the
+1-based physical line and the column, so the fast paths never have to keep track
+of where they are.
 
 Accepted text layout, top to bottom:
 
@@ -34,13 +43,19 @@ import warnings
 from collections.abc import Iterator
 from dataclasses import dataclass
 from pathlib import Path
-from typing import BinaryIO
+from typing import TYPE_CHECKING, BinaryIO
 
 import numpy as np
-import pyarrow as pa
-import pyarrow.csv as pa_csv
 
 from logbook.errors import InputError
+
+try:  # compiled from native/plaintext.c when the package was built with a C compiler
+    from logbook_plaintext import parse_columns as _parse_exact_plain
+except ImportError:
+    _parse_exact_plain = None
+
+if TYPE_CHECKING:
+    import pyarrow as pa
 
 DELIMITERS = (",", ";", "\t")
 DECIMAL_MARKS = (".", ",")
@@ -165,13 +180,31 @@ def _read_text(
 def _parse_plain(
     body: bytes, start: int, layout: _Layout, lines: int
 ) -> dict[str, np.ndarray] | None:
-    """The columns of plain numeric text, parsed by pyarrow's CSV reader (one thread:
-    its threads were measured to slow batches down, as the callers already keep both
-    cores busy); None when that fails, when its row count is not ``lines`` or when a
-    value is not finite. Those files are left to :func:`_parse_general`, which then
-    decides exactly as for any other file."""
+    """The columns of plain numeric text, parsed by the compiled parser or else by
+    pyarrow's CSV reader (one thread: its threads were measured to slow batches
+    down, as the callers already keep both cores busy); None when both decline,
+    when the row count is not ``lines`` or when a value is not finite. Those files
+    are left to :func:`_parse_general`, which then decides exactly as for any other
+    file."""
     if lines == 0:
         return None
+    columns = {name: np.empty(lines) for name in layout.names}
+    if _parse_exact_plain is not None and lines == _parse_exact_plain(
+        body, start, layout.delimiter, layout.decimal, list(columns.values())
+    ):
+        return columns  # its grammar admits finite numbers only
+    return _parse_plain_pyarrow(body, start, layout, columns)
+
+
+def _parse_plain_pyarrow(
+    body: bytes, start: int, layout: _Layout, columns: dict[str, np.ndarray]
+) -> dict[str, np.ndarray] | None:
+    """:func:`_parse_plain` by pyarrow's CSV reader, into ``columns`` (one array of
+    the file's data-line count per name)."""
+    import pyarrow as pa  # here: `logbook analyze` seldom needs it, and it is slow to import
+    import pyarrow.csv as pa_csv
+
+    lines = len(next(iter(columns.values())))
     options = {
         "read_options": pa_csv.ReadOptions(column_names=layout.names, use_threads=False),
         "parse_options": pa_csv.ParseOptions(
@@ -185,7 +218,6 @@ def _parse_plain(
         ),
         "memory_pool": pa.system_memory_pool(),  # gives freed buffers back at once
     }
-    columns = {name: np.empty(lines) for name in layout.names}
     filled = 0
     for piece in _pieces(body, start, PIECE_BYTES):
         try:
@@ -513,6 +545,7 @@ def _diagnose(body: bytes, start: int, path: str, layout: _Layout) -> None:
 
 def _read_parquet(path: str, raw: bytes | None) -> RawTable:
     """Numeric Parquet columns as float64; nulls become NaN. Lines are row numbers."""
+    import pyarrow as pa
     import pyarrow.parquet as pq
 
     try:
