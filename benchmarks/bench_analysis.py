@@ -6,8 +6,8 @@ Everything below is measured in the same run, on the same data:
 
 1. core figures (levels, rise, overshoot, peak, settling, steady-state error) on
    TRACES traces x 10,000 samples (1,000; 100 with --quick), as samples per second:
-   * logbook: input checks, step detection, tail-median levels and the
-     interpolated figures of every step (``logbook.analysis`` functions);
+   * logbook: ``transient_figures``: input checks, step detection, tail-median
+     levels and the interpolated figures of every step;
    * python-control: ``control.step_info(y, t)`` on each trace;
    * plain numpy: the same figures for a single step at a known place, computed
      the naive way (no checks, no interpolation, last sample as the final value):
@@ -43,8 +43,8 @@ import numpy as np
 import pandas as pd
 
 from logbook.analysis import analyze_arrays, analyze_trace
-from logbook.analysis.inputs import samples, time_axis
-from logbook.analysis.levels import tail_median
+from logbook.analysis.analyze import transient_figures
+from logbook.analysis.levels import median, tail_median, tail_start
 from logbook.analysis.metrics import step_figures
 from logbook.analysis.model_fit import second_order_step
 from logbook.analysis.settings import AnalysisSettings
@@ -80,22 +80,22 @@ def make_trace(n: int, seed: int) -> tuple[np.ndarray, np.ndarray, np.ndarray, n
 
 def core_figures(t: np.ndarray, sp: np.ndarray, y: np.ndarray) -> list[dict]:
     """What logbook computes for the core figures of every step of a trace."""
-    t = time_axis(t, "time")
-    sp = samples(sp, "setpoint", length=len(t))
-    y = samples(y, "feedback", length=len(t))
-    return checked_core_figures(t, sp, y)
+    return transient_figures(t, sp, y, settings=SETTINGS)
 
 
-def checked_core_figures(t: np.ndarray, sp: np.ndarray, y: np.ndarray) -> list[dict]:
-    """The same without the input checks (NaN, monotonic time), which
-    python-control does not make."""
+def unchecked_core_figures(t: np.ndarray, sp: np.ndarray, y: np.ndarray) -> list[dict]:
+    """The same without the input checks (NaN, monotonic time, constant feedback),
+    which python-control does not make."""
     steps = find_steps(sp, tolerance=SETTINGS.step_tolerance)
     window = SETTINGS.level_window
     initial = tail_median(t, y, 0, steps[0].start, window=window)
     out = []
     for step in steps:
-        final = tail_median(t, y, step.start, step.end, window=window)
-        out.append(step_figures(t, y, step, initial, final, settings=SETTINGS))
+        final_window = tail_start(t, step.start, step.end, window=window)
+        final = median(y[final_window : step.end])
+        out.append(
+            step_figures(t, y, step, initial, final, final_window=final_window, settings=SETTINGS)
+        )
         initial = final
     return out
 
@@ -137,7 +137,7 @@ def bench_core(traces: int) -> None:
     total = traces * SAMPLES
     runs = {
         "logbook core figures": lambda: [core_figures(t, sp, y) for t, sp, y, _ in data],
-        "  ... without the input checks": lambda: [checked_core_figures(t, sp, y)
+        "  ... without the input checks": lambda: [unchecked_core_figures(t, sp, y)
                                                  for t, sp, y, _ in data],
         "python-control step_info": lambda: [control.step_info(y, t) for t, _, y, _ in data],
         "plain numpy (naive figures)": lambda: [naive_numpy(t, sp, y) for t, sp, y, _ in data],

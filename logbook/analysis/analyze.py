@@ -6,8 +6,8 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from logbook.analysis.inputs import samples, time_axis
-from logbook.analysis.levels import tail_median
+from logbook.analysis.inputs import feedback_samples, samples, setpoint_samples, time_axis
+from logbook.analysis.levels import median, tail_median, tail_start
 from logbook.analysis.metrics import error_integrals, step_figures
 from logbook.analysis.model_fit import fit_second_order
 from logbook.analysis.oscillation import hunting_figures
@@ -52,15 +52,61 @@ def analyze_trace(trace: Trace, *, settings: AnalysisSettings = DEFAULT_SETTINGS
     """:func:`analyze_arrays` on the trace's time, setpoint, feedback and (optional)
     effort channels, picked by role; errors name the channel."""
     time, setpoint, feedback, effort = (
-        trace.by_role(role) for role in (Role.TIME, Role.SETPOINT, Role.FEEDBACK, Role.EFFORT))
+        trace.by_role(role) for role in (Role.TIME, Role.SETPOINT, Role.FEEDBACK, Role.EFFORT)
+    )
     if setpoint is None or feedback is None:
         missing = Role.SETPOINT if setpoint is None else Role.FEEDBACK
         raise InputError(f"the trace has no {missing} channel")
     assert time is not None  # a Trace always has its time channel
-    names = _Names(time.name, setpoint.name, feedback.name,
-                   effort.name if effort is not None else "effort")
-    return _analyze(time.values, setpoint.values, feedback.values,
-                    None if effort is None else effort.values, settings, names)
+    names = _Names(
+        time.name, setpoint.name, feedback.name, effort.name if effort is not None else "effort"
+    )
+    return _analyze(
+        time.values,
+        setpoint.values,
+        feedback.values,
+        None if effort is None else effort.values,
+        settings,
+        names,
+    )
+
+
+def transient_figures(
+    time: np.ndarray,
+    setpoint: np.ndarray,
+    feedback: np.ndarray,
+    *,
+    settings: AnalysisSettings = DEFAULT_SETTINGS,
+) -> list[dict[str, Figure]]:
+    """The transient figures of every step (levels, rise, delay, peak, overshoot,
+    undershoot, settling, steady-state error: :func:`metrics.step_figures`), after the
+    same checks as :func:`analyze_arrays`; a quick look without the error integrals,
+    hunting, saturation and fit."""
+    return _transients(time, setpoint, feedback, settings, _Names())[3]
+
+
+def _transients(
+    time: object, setpoint: object, feedback: object, settings: AnalysisSettings, names: _Names
+) -> tuple[np.ndarray, np.ndarray, np.ndarray, list[dict[str, Figure]], tuple[Step, ...]]:
+    """(time, setpoint, feedback as checked arrays, the transient figures of every step,
+    the steps)."""
+    t = time_axis(time, names.time)
+    sp, changes = setpoint_samples(setpoint, names.setpoint, length=len(t))
+    fb = feedback_samples(feedback, names.feedback, length=len(t))
+    steps = find_steps(sp, tolerance=settings.step_tolerance, changes=changes)
+    if not steps:
+        raise InputError("no step: the setpoint never changes", column=names.setpoint)
+    window = settings.level_window
+    figures = []
+    initial = tail_median(t, fb, 0, steps[0].start, window=window)
+    for step in steps:
+        final_window = tail_start(t, step.start, step.end, window=window)
+        final = median(fb[final_window : step.end])
+        figures.append(
+            step_figures(t, fb, step, initial, final, final_window=final_window, settings=settings)
+        )
+        initial = final
+    return t, sp, fb, figures, steps
 
 
 def _analyze(
@@ -71,24 +117,11 @@ def _analyze(
     settings: AnalysisSettings,
     names: _Names,
 ) -> TraceAnalysis:
-    t = time_axis(time, names.time)
-    sp = samples(setpoint, names.setpoint, length=len(t))
-    fb = samples(feedback, names.feedback, length=len(t))
+    t, sp, fb, transients, steps = _transients(time, setpoint, feedback, settings, names)
     u = None if effort is None else samples(effort, names.effort, length=len(t))
-    if fb.min() == fb.max():
-        raise InputError(
-            "constant feedback: it never changes, nothing to analyse", column=names.feedback
-        )
-    steps = find_steps(sp, tolerance=settings.step_tolerance)
-    if not steps:
-        raise InputError("no step: the setpoint never changes", column=names.setpoint)
     limit = None if u is None else output_limit(u, effort_limit=settings.effort_limit)
-    window = settings.level_window
     results = []
-    initial = tail_median(t, fb, 0, steps[0].start, window=window)
-    for index, step in enumerate(steps):
-        final = tail_median(t, fb, step.start, step.end, window=window)
-        figures = step_figures(t, fb, step, initial, final, settings=settings)
+    for index, (step, figures) in enumerate(zip(steps, transients, strict=True)):
         figures |= error_integrals(t, sp, fb, step)
         figures |= _hunting(t, fb, step, figures, settings)
         figures |= _saturation(t, fb, u, step, limit, figures, settings)
@@ -97,8 +130,8 @@ def _analyze(
             fb,
             step.start,
             step.end,
-            initial=initial,
-            amplitude=final - initial,
+            initial=figures["initial"].value,
+            amplitude=figures["amplitude"].value,
             settling_time=figures["settling_time_s"].value,
             overshoot_pct=figures["overshoot_pct"].value,
             peak_time=figures["peak_time_s"].value,
@@ -107,7 +140,6 @@ def _analyze(
             max_samples=settings.fit_max_samples,
         )
         results.append(StepAnalysis(index, figures))
-        initial = final
     return TraceAnalysis(tuple(results), settings)
 
 

@@ -29,7 +29,6 @@ from __future__ import annotations
 
 import numpy as np
 
-from logbook.analysis.levels import tail_start
 from logbook.analysis.results import Figure
 from logbook.analysis.settings import AnalysisSettings
 from logbook.analysis.steps import Step
@@ -55,9 +54,13 @@ def step_figures(
     initial: float,
     final: float,
     *,
+    final_window: int,
     settings: AnalysisSettings,
 ) -> dict[str, Figure]:
-    """Levels, timing and overshoot figures of one step (see the module docstring)."""
+    """Levels, timing and overshoot figures of one step (see the module docstring).
+
+    final_window: index of the first sample of the window ``final`` was taken over
+        (:func:`~logbook.analysis.levels.tail_start`)."""
     t_step = time.item(step.start)
     amplitude = final - initial
     error = step.after - final
@@ -79,16 +82,32 @@ def step_figures(
     y = feedback[step.start - 1 : step.end]
     rising = amplitude > 0.0
 
-    t_low = _crossing(t, y, initial + settings.rise_low * amplitude, rising)
-    t_half = _crossing(t, y, initial + 0.5 * amplitude, rising)
-    t_high = _crossing(t, y, initial + settings.rise_high * amplitude, rising)
-    low_pct, high_pct = 100 * settings.rise_low, 100 * settings.rise_high
-    figures["rise_start_s"] = _since(t_low, t_step, f"never reaches {low_pct:g} % of the step")
-    figures["delay_time_s"] = _since(t_half, t_step, "never reaches 50 % of the step")
-    if t_low is None or t_high is None:
-        figures["rise_time_s"] = Figure(None, f"never reaches {high_pct:g} % of the step")
-    else:
-        figures["rise_time_s"] = Figure(t_high - t_low)
+    # A level further along the step is first reached no earlier than a nearer one,
+    # so each search starts where the one for the nearest level short of it ended.
+    low, high = settings.rise_low, settings.rise_high
+    level_low, level_half = initial + low * amplitude, initial + 0.5 * amplitude
+    level_high = initial + high * amplitude
+    k_low = _first(y, level_low, rising, begin=1)
+    k_half = _first(y, level_half, rising, begin=k_low if low <= 0.5 else 1)
+    k_high = _first(y, level_high, rising, begin=k_half if low <= 0.5 <= high else k_low)
+    t_low = _crossing(t, y, k_low, level_low, rising)
+    t_half = _crossing(t, y, k_half, level_half, rising)
+    t_high = _crossing(t, y, k_high, level_high, rising)
+    figures["rise_start_s"] = (
+        Figure(max(0.0, t_low - t_step))
+        if t_low is not None
+        else Figure(None, f"never reaches {100 * low:g} % of the step")
+    )
+    figures["delay_time_s"] = (
+        Figure(max(0.0, t_half - t_step))
+        if t_half is not None
+        else Figure(None, "never reaches 50 % of the step")
+    )
+    figures["rise_time_s"] = (
+        Figure(t_high - t_low)
+        if t_low is not None and t_high is not None
+        else Figure(None, f"never reaches {100 * high:g} % of the step")
+    )
 
     body = y[1:]
     k_peak = 1 + int(body.argmax() if rising else body.argmin())
@@ -99,8 +118,9 @@ def step_figures(
         if beyond > 0.0
         else Figure(None, "no overshoot: the response never passes the final level")
     )
-    k_half = len(y) if t_half is None else int(t.searchsorted(t_half, side="right"))
-    before_half = y[1 : max(k_half, 2)]
+    # Samples 1 .. k_half - 1 are short of the 50 % level (sample k_half is the first
+    # at or beyond it, so it cannot be the largest excursion against the step).
+    before_half = y[1 : max(len(y) if k_half is None else k_half, 2)]
     against = (before_half.min() if rising else before_half.max()).item()
     figures["undershoot_pct"] = Figure(max(0.0, (initial - against) / amplitude) * 100.0)
     figures["settling_time_s"] = _settling(
@@ -109,7 +129,7 @@ def step_figures(
         t_step,
         final,
         settings.band * abs(amplitude),
-        t_window=time.item(tail_start(time, step.start, step.end, window=settings.level_window)),
+        window=final_window - (step.start - 1),
         band_pct=100 * settings.band,
         window_pct=100 * settings.level_window,
     )
@@ -140,11 +160,12 @@ def _trapezoid(values: np.ndarray, dt: np.ndarray) -> float:
     return float(0.5 * ((values[1:] + values[:-1]) * dt).sum())
 
 
-def _crossing(t: np.ndarray, y: np.ndarray, level: float, rising: bool) -> float | None:
-    """Interpolated time of the first sample of ``y[1:]`` at or beyond ``level``
-    (above it when ``rising``), or None; never earlier than t_step = t[1]. Searched
-    in growing chunks from the start, since crossings come early in a segment."""
-    k = _first(y, level, rising, begin=1)
+def _crossing(
+    t: np.ndarray, y: np.ndarray, k: int | None, level: float, rising: bool
+) -> float | None:
+    """Interpolated time at which ``y`` reaches ``level`` (above it when ``rising``)
+    on the way to sample k, the first of ``y[1:]`` at or beyond it (None: never);
+    never earlier than t_step = t[1]."""
     if k is None:
         return None
     before = y.item(k - 1)
@@ -153,7 +174,12 @@ def _crossing(t: np.ndarray, y: np.ndarray, level: float, rising: bool) -> float
     return max(t.item(1), _interpolate(t, y, k, level))
 
 
-def _first(y: np.ndarray, level: float, rising: bool, *, begin: int) -> int | None:
+def _first(y: np.ndarray, level: float, rising: bool, *, begin: int | None) -> int | None:
+    """Index of the first sample of ``y[begin:]`` at or beyond ``level`` (None when
+    ``begin`` is None or there is none). Searched in growing chunks, since
+    crossings come early in a segment."""
+    if begin is None:
+        return None
     size = FIRST_CHUNK
     while begin < len(y):
         chunk = y[begin : begin + size]
@@ -172,10 +198,6 @@ def _interpolate(t: np.ndarray, y: np.ndarray, k: int, level: float) -> float:
     return t0 + (level - y0) / (y.item(k) - y0) * (t.item(k) - t0)
 
 
-def _since(instant: float | None, t_step: float, reason: str) -> Figure:
-    return Figure(None, reason) if instant is None else Figure(max(0.0, instant - t_step))
-
-
 def _settling(
     t: np.ndarray,
     y: np.ndarray,
@@ -183,16 +205,18 @@ def _settling(
     final: float,
     half_width: float,
     *,
-    t_window: float,
+    window: int,
     band_pct: float,
     window_pct: float,
 ) -> Figure:
+    """Settling time in segment ``t``/``y``, whose final-level window starts at
+    ``window``."""
     j = _last_outside(y, final, half_width)
     if j is None:  # inside the band from before the step on
         return Figure(0.0)
     if j == len(y) - 1:
         return Figure(None, f"never settles: outside the ±{band_pct:g} % band at the end")
-    if t.item(j) >= t_window:
+    if j >= window:
         return Figure(
             None,
             f"not settled: leaves the ±{band_pct:g} % band within the last "
@@ -204,6 +228,7 @@ def _settling(
 
 def _last_outside(y: np.ndarray, final: float, half_width: float) -> int | None:
     """Index of the last sample with |y - final| > half_width, or None."""
-    outside = (y > final + half_width) | (y < final - half_width)
-    k = int(outside[::-1].argmax())
-    return None if not outside.item(len(y) - 1 - k) else len(y) - 1 - k
+    # The indices rather than a backward argmax: numpy's argmax over a reversed
+    # array is several times slower than listing the outside samples of a response.
+    outside = np.flatnonzero((y > final + half_width) | (y < final - half_width))
+    return outside.item(-1) if len(outside) else None

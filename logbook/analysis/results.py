@@ -10,14 +10,15 @@ from __future__ import annotations
 from collections.abc import Mapping
 from dataclasses import dataclass
 from types import MappingProxyType
+from typing import NamedTuple
 
 from logbook.analysis.catalog import METRICS
 from logbook.analysis.settings import AnalysisSettings
 
 
-@dataclass(frozen=True)
-class Figure:
-    """One number, or None with the reason it could not be determined."""
+class Figure(NamedTuple):
+    """One number, or None with the reason it could not be determined. (A named
+    tuple: a trace has some thirty per step, and tuples are the cheapest to make.)"""
 
     value: float | None
     reason: str | None = None  # why value is None (or a note)

@@ -10,6 +10,7 @@ import numpy as np
 import pytest
 
 from logbook.analysis import METRICS, AnalysisSettings, analyze_arrays
+from logbook.analysis.analyze import transient_figures
 from logbook.analysis.levels import median, tail_median
 from logbook.analysis.results import Figure, StepAnalysis
 from logbook.analysis.steps import Step, find_steps
@@ -29,6 +30,16 @@ def test_float_noise_in_the_setpoint_is_not_a_step():
     (step,) = find_steps(sp)
     assert step.start == 3
     assert find_steps(np.zeros(5)) == ()
+
+
+def test_steps_of_a_setpoint_whose_range_overflows_a_double():
+    # max - min = 2e308 is beyond the largest double; the threshold must not become
+    # infinite and swallow every step.
+    sp = np.array([0.0, 1e308, 1e308, -1e308])
+    assert find_steps(sp) == (
+        Step(start=1, end=3, before=0.0, after=1e308),
+        Step(start=3, end=4, before=1e308, after=-1e308),
+    )
 
 
 def test_tail_median_ignores_spikes_and_takes_the_window_by_time():
@@ -114,3 +125,15 @@ def test_crossings_before_the_logged_step_count_from_the_step():
 def test_median_is_numpys_median(values):
     # The level estimator's median is numpy's number exactly (numpy as the reference).
     assert median(values) == np.median(values)
+
+
+def test_transient_figures_are_those_of_the_whole_analysis():
+    t = np.linspace(0.0, 2.0, 2001)
+    sp = np.where(t >= 1.2, -1.0, np.where(t >= 0.2, 2.0, 0.0))
+    y = np.convolve(sp, np.full(40, 1 / 40))[: len(t)]
+    quick = transient_figures(t, sp, y)
+    full = analyze_arrays(t, sp, y).steps
+    assert len(quick) == len(full) == 2
+    for figures, step in zip(quick, full, strict=True):
+        assert figures == {name: step.figures[name] for name in figures}
+        assert {"rise_time_s", "overshoot_pct", "settling_time_s", "final"} <= set(figures)
