@@ -43,9 +43,7 @@ import numpy as np
 import pandas as pd
 
 from logbook.analysis import analyze_arrays, analyze_trace
-from logbook.analysis.analyze import transient_figures
-from logbook.analysis.levels import median, tail_median, tail_start
-from logbook.analysis.metrics import step_figures
+from logbook.analysis.analyze import steps_transient_figures, transient_figures
 from logbook.analysis.model_fit import second_order_step
 from logbook.analysis.settings import AnalysisSettings
 from logbook.analysis.steps import find_steps
@@ -87,17 +85,7 @@ def unchecked_core_figures(t: np.ndarray, sp: np.ndarray, y: np.ndarray) -> list
     """The same without the input checks (NaN, monotonic time, constant feedback),
     which python-control does not make."""
     steps = find_steps(sp, tolerance=SETTINGS.step_tolerance)
-    window = SETTINGS.level_window
-    initial = tail_median(t, y, 0, steps[0].start, window=window)
-    out = []
-    for step in steps:
-        final_window = tail_start(t, step.start, step.end, window=window)
-        final = median(y[final_window : step.end])
-        out.append(
-            step_figures(t, y, step, initial, final, final_window=final_window, settings=SETTINGS)
-        )
-        initial = final
-    return out
+    return steps_transient_figures(t, y, steps, settings=SETTINGS)
 
 
 def naive_numpy(t: np.ndarray, sp: np.ndarray, y: np.ndarray) -> tuple[float, ...]:

@@ -96,17 +96,27 @@ def _transients(
     steps = find_steps(sp, tolerance=settings.step_tolerance, changes=changes)
     if not steps:
         raise InputError("no step: the setpoint never changes", column=names.setpoint)
+    return t, sp, fb, steps_transient_figures(t, fb, steps, settings=settings), steps
+
+
+def steps_transient_figures(
+    time: np.ndarray, feedback: np.ndarray, steps: tuple[Step, ...], *, settings: AnalysisSettings
+) -> list[dict[str, Figure]]:
+    """The transient figures of ``steps`` (at least one) of arrays already checked:
+    each step's initial level is the one before it settled to."""
     window = settings.level_window
     figures = []
-    initial = tail_median(t, fb, 0, steps[0].start, window=window)
+    initial = tail_median(time, feedback, 0, steps[0].start, window=window)
     for step in steps:
-        final_window = tail_start(t, step.start, step.end, window=window)
-        final = median(fb[final_window : step.end])
+        final_window = tail_start(time, step.start, step.end, window=window)
+        final = median(feedback[final_window : step.end])
         figures.append(
-            step_figures(t, fb, step, initial, final, final_window=final_window, settings=settings)
+            step_figures(
+                time, feedback, step, initial, final, final_window=final_window, settings=settings
+            )
         )
         initial = final
-    return t, sp, fb, figures, steps
+    return figures
 
 
 def _analyze(
