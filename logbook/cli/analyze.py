@@ -19,6 +19,7 @@ import click
 from logbook.analysis import METRICS, AnalysisSettings, TraceAnalysis, analyze_trace
 from logbook.analysis.catalog import resolve_unit
 from logbook.cli.base import analysis_settings, json_option, json_text, print_table
+from logbook.cli.heap import keep_freed_memory
 from logbook.errors import InputError
 from logbook.trace import Role
 
@@ -84,6 +85,7 @@ def analyze_command(
     """
     settings = analysis_settings(band, rise)
     columns = _Columns(time_col, setpoint_col, feedback_col, effort_col)
+    keep_freed_memory()
     failed = False
     for report in _reports(list(files), columns, settings, as_json=as_json):
         if report.error is not None:

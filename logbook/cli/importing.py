@@ -17,6 +17,7 @@ from logbook.cli.base import (
     print_json,
     print_table,
 )
+from logbook.cli.heap import keep_freed_memory
 from logbook.ingest.metadata import RunFields
 from logbook.ingest.profiles import load_profile
 from logbook.services import catalog, profiles
@@ -122,6 +123,7 @@ def import_command(
     )
     database = open_logbook(db)
     files, results = expand_paths(paths)
+    keep_freed_memory()
     console = Console(stderr=True)
     with Progress(
         TextColumn("importing"),
