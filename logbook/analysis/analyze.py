@@ -32,6 +32,9 @@ class _Names:
     effort: str = "effort"
 
 
+DEFAULT_NAMES = _Names()
+
+
 def analyze_arrays(
     time: np.ndarray,
     setpoint: np.ndarray,
@@ -45,7 +48,7 @@ def analyze_arrays(
     Raises InputError (without a file) for fewer than 3 samples, NaN or infinite
     values, time not strictly increasing, constant feedback or no setpoint step.
     """
-    return _analyze(time, setpoint, feedback, effort, settings, _Names())
+    return _analyze(time, setpoint, feedback, effort, settings, DEFAULT_NAMES)
 
 
 def analyze_trace(trace: Trace, *, settings: AnalysisSettings = DEFAULT_SETTINGS) -> TraceAnalysis:
@@ -82,7 +85,7 @@ def transient_figures(
     undershoot, settling, steady-state error: :func:`metrics.step_figures`), after the
     same checks as :func:`analyze_arrays`; a quick look without the error integrals,
     hunting, saturation and fit."""
-    return _transients(time, setpoint, feedback, settings, _Names())[3]
+    return _transients(time, setpoint, feedback, settings, DEFAULT_NAMES)[3]
 
 
 def _transients(
