@@ -345,7 +345,7 @@ def _read_layout(fh: BinaryIO, path: str, delimiter: str | None, decimal: str | 
         if delimiter is None:
             reason = "only one column found: no ',', ';' or tab separates the header"
         else:
-            others = [d for d in DELIMITERS if d != delimiter and len(_split(header, d)) > 1]
+            others = [d for d in DELIMITERS if d != delimiter and _field_count(header, d) > 1]
             hint = f"; the header splits on {_DELIMITER_NAMES[others[0]]}" if others else ""
             reason = (
                 f"only one column found with delimiter {_DELIMITER_NAMES[delimiter]}"
@@ -402,14 +402,21 @@ def _split(line: str, delimiter: str) -> list[str]:
         raise InputError(f"cannot split a line into fields ({exc})") from exc
 
 
+def _field_count(line: str, delimiter: str) -> int:
+    """``len(_split(line, delimiter))``; a line without quotes is counted, not split."""
+    if '"' in line:
+        return len(_split(line, delimiter))
+    return line.count(delimiter) + 1 if line else 0
+
+
 def _sniff_delimiter(header: str, sample: list[str]) -> str:
     """The first of tab, ';', ',' that splits the header into the same number (>1) of
     fields as every sampled data line; else the one splitting the header most."""
     for candidate in ("\t", ";", ","):
-        width = len(_split(header, candidate))
-        if width > 1 and all(len(_split(s, candidate)) == width for s in sample if s):
+        width = _field_count(header, candidate)
+        if width > 1 and all(_field_count(s, candidate) == width for s in sample if s):
             return candidate
-    return max(("\t", ";", ","), key=lambda d: len(_split(header, d)))
+    return max(("\t", ";", ","), key=lambda d: _field_count(header, d))
 
 
 def _number_pattern(decimal: str) -> re.Pattern[str]:
