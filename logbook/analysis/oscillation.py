@@ -21,6 +21,8 @@ the whole band just after settling, out of the figures. In it:
 
 from __future__ import annotations
 
+import functools
+
 import numpy as np
 
 from logbook.analysis.levels import median
@@ -97,17 +99,21 @@ def _dominant_frequency(
     return (k + offset) / duration, share, duration
 
 
+@functools.lru_cache(maxsize=8)
 def hann_window(n: int) -> np.ndarray:
     """``np.hanning(n)`` (n >= 2), the same numbers at half the cost: the window is
-    symmetric, so only its first half is computed and then mirrored."""
+    symmetric, so only its first half is computed and then mirrored. Kept for the
+    last few lengths (read-only), as a batch's captures are mostly alike."""
     first = np.arange(1.0 - n, 1.0, 2.0)[: (n + 1) // 2]  # numpy's k <= 0
     first = 0.5 + 0.5 * np.cos(np.pi * first / (n - 1.0))
     window = np.empty(n)
     window[: len(first)] = first
     window[n - len(first) :] = first[::-1]
+    window.flags.writeable = False
     return window
 
 
+@functools.lru_cache(maxsize=64)
 def _fast_length(n: int) -> int:
     """The smallest 2^a * 3^b * 5^c >= n: lengths the FFT transforms quickly."""
     best = 1 << max(0, (n - 1).bit_length())
