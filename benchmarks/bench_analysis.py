@@ -42,8 +42,8 @@ import control
 import numpy as np
 import pandas as pd
 
-from logbook.analysis import analyze_arrays, analyze_trace
-from logbook.analysis.analyze import steps_transient_figures, transient_figures
+from logbook.analysis import analyze_arrays, analyze_trace, transient_figures
+from logbook.analysis.analyze import steps_transient_figures
 from logbook.analysis.model_fit import second_order_step
 from logbook.analysis.settings import AnalysisSettings
 from logbook.analysis.steps import find_steps
