@@ -14,6 +14,16 @@ from logbook.ingest import read_table
 GOOD = Path(__file__).parent / "good"
 
 
+def test_the_compiled_parser_is_built_and_used() -> None:
+    # The README's install compiles native/plaintext.c when a C compiler is present;
+    # without it every plain file goes to pyarrow's reader, several times slower.
+    from logbook.ingest import reader
+
+    assert reader._parse_exact_plain is not None, (
+        "logbook_plaintext was not built: install gcc and the Python headers, then reinstall"
+    )
+
+
 def test_tab_separated_file_is_sniffed() -> None:
     table = read_table(GOOD / "tab_separated.tsv")
     assert list(table.columns) == ["t [s]", "setpoint [mm]", "position [mm]", "effort [V]"]
