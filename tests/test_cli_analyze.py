@@ -22,8 +22,16 @@ TAU = 0.05
 DT = 1e-3
 T0 = 1000.0  # the clock of a capture may start anywhere
 T_STEP = T0 + 0.1
-CONTRACT_KEYS = ("t_step_s", "initial", "final", "rise_time_s", "overshoot_pct", "peak_time_s",
-                 "settling_time_s", "steady_state_error")
+CONTRACT_KEYS = (
+    "t_step_s",
+    "initial",
+    "final",
+    "rise_time_s",
+    "overshoot_pct",
+    "peak_time_s",
+    "settling_time_s",
+    "steady_state_error",
+)
 
 
 def _first_order_columns(rows: int = 1000, low: float = 2.0, high: float = 4.0):
@@ -41,8 +49,12 @@ def _write(path: Path, header: str, columns, *, metadata: str = "") -> Path:
 
 def _capture(tmp_path: Path, name: str = "run.csv") -> Path:
     metadata = "# axis: x-stage\n# revision: B\n# gains: soft\n"
-    return _write(tmp_path / name, "t [s],setpoint [mm],position [mm]", _first_order_columns(),
-                  metadata=metadata)
+    return _write(
+        tmp_path / name,
+        "t [s],setpoint [mm],position [mm]",
+        _first_order_columns(),
+        metadata=metadata,
+    )
 
 
 def _invoke(*args: str):
@@ -116,7 +128,8 @@ def test_multi_step_file(tmp_path):
     (record,) = _json_lines(_invoke(str(path), "--json").stdout)
     assert [s["t_step_s"] for s in record["steps"]] == pytest.approx([0.5, 1.5], abs=1e-9)
     assert [s["rise_time_s"] for s in record["steps"]] == pytest.approx(
-        [TAU * math.log(9)] * 2, abs=DT)
+        [TAU * math.log(9)] * 2, abs=DT
+    )
 
 
 def test_table_output(tmp_path):
@@ -152,20 +165,32 @@ def _bad_files(tmp_path: Path) -> dict[str, tuple[Path, str]]:
     empty.write_text("")
     return {
         "empty": (empty, f"{empty}: empty file"),
-        "one sample": (_write(tmp_path / "one.csv", header, (t[:1], sp[:1], y[:1])),
-                       "only 1 data rows"),
-        "no step": (_write(tmp_path / "flat.csv", header, (t, np.full(300, 2.0), y)),
-                    "column 'setpoint [mm]': no step"),
-        "constant feedback": (_write(tmp_path / "stuck.csv", header, (t, sp, np.full(300, 2.0))),
-                              "column 'position [mm]': constant feedback"),
+        "one sample": (
+            _write(tmp_path / "one.csv", header, (t[:1], sp[:1], y[:1])),
+            "only 1 data rows",
+        ),
+        "no step": (
+            _write(tmp_path / "flat.csv", header, (t, np.full(300, 2.0), y)),
+            "column 'setpoint [mm]': no step",
+        ),
+        "constant feedback": (
+            _write(tmp_path / "stuck.csv", header, (t, sp, np.full(300, 2.0))),
+            "column 'position [mm]': constant feedback",
+        ),
         "NaN": (bad_nan, "line 12, column 'position [mm]': missing value (NaN)"),
         "non-numeric": (bad_text, "line 12, column 'position [mm]': text 'abc'"),
-        "backwards": (_write(tmp_path / "back.csv", header, (backwards, sp, y)),
-                      "line 22, column 't [s]': time goes backwards"),
-        "duplicate": (_write(tmp_path / "dup.csv", header, (duplicate, sp, y)),
-                      "line 22, column 't [s]': duplicate timestamp"),
-        "missing column": (_write(tmp_path / "nofb.csv", "t [s],setpoint [mm],temp [C]",
-                                  (t, sp, y)), "no feedback column found"),
+        "backwards": (
+            _write(tmp_path / "back.csv", header, (backwards, sp, y)),
+            "line 22, column 't [s]': time goes backwards",
+        ),
+        "duplicate": (
+            _write(tmp_path / "dup.csv", header, (duplicate, sp, y)),
+            "line 22, column 't [s]': duplicate timestamp",
+        ),
+        "missing column": (
+            _write(tmp_path / "nofb.csv", "t [s],setpoint [mm],temp [C]", (t, sp, y)),
+            "no feedback column found",
+        ),
         "no such file": (tmp_path / "absent.csv", "cannot open the file"),
     }
 
@@ -204,9 +229,14 @@ def test_large_batch_on_worker_processes_keeps_order(tmp_path):
     assert rises == pytest.approx([TAU * math.log(9)] * 19, abs=DT)
 
 
-@pytest.mark.parametrize(("args", "message"), [(["--rise", "ten-ninety"], "LOW-HIGH"),
-                                               (["--rise", "90-10"], "rise limits"),
-                                               (["--band", "0"], "settling band")])
+@pytest.mark.parametrize(
+    ("args", "message"),
+    [
+        (["--rise", "ten-ninety"], "LOW-HIGH"),
+        (["--rise", "90-10"], "rise limits"),
+        (["--band", "0"], "settling band"),
+    ],
+)
 def test_bad_options_are_usage_errors(tmp_path, args, message):
     result = _invoke(str(_capture(tmp_path)), *args)
     assert result.exit_code == 2

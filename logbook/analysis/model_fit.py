@@ -126,8 +126,7 @@ def fit_second_order(
     t_step = time.item(start)
     stop = end
     if settling_time is not None:
-        stop = start + int(time[start:end].searchsorted(t_step + 2.0 * settling_time,
-                                                        side="right"))
+        stop = start + int(time[start:end].searchsorted(t_step + 2.0 * settling_time, side="right"))
     stride = max(1, -(-(stop - start) // max_samples))
     t = time[start:stop:stride] - t_step
     if len(t) < MIN_SAMPLES:
@@ -141,9 +140,12 @@ def fit_second_order(
     # well determined, a straight valley in (ln zeta, ln wn) that the steps follow.
     lower = (math.log(ZETA_RANGE[0]), math.log(0.1 / span), 0.0)
     upper = (math.log(ZETA_RANGE[1]), math.log(2.0 * math.pi / dt), 0.5 * span)
-    start_point = [min(max(v, lo), hi) for v, lo, hi in
-                   zip((math.log(max(zeta0, ZETA_RANGE[0])), math.log(wn0), theta0), lower,
-                       upper, strict=True)]
+    start_point = [
+        min(max(v, lo), hi)
+        for v, lo, hi in zip(
+            (math.log(max(zeta0, ZETA_RANGE[0])), math.log(wn0), theta0), lower, upper, strict=True
+        )
+    ]
     solution = _least_squares(t, d, start_point, lower, upper, scales=(1.0, 1.0, span))
     if solution is None:
         return _none(f"the fit did not converge in {MAX_ITERATIONS} iterations")
@@ -187,15 +189,19 @@ def _least_squares(
         # Sums of products (no BLAS: see metrics._trapezoid): J^T J and J^T r.
         products = np.einsum("ik,jk->ij", rows, rows).tolist()
         gradient = products[3][:3]
-        held = [(p[i] <= lower[i] and gradient[i] > 0.0) or (p[i] >= upper[i] and gradient[i] < 0.0)
-                for i in range(3)]
+        held = [
+            (p[i] <= lower[i] and gradient[i] > 0.0) or (p[i] >= upper[i] and gradient[i] < 0.0)
+            for i in range(3)
+        ]
         if all(held):
             return p, cost  # at bounds that the gradient pushes against
         while True:
             step = _damped_step(products, gradient, held, damping)
             if step is not None:
-                trial = [min(max(v + delta, lo), hi)
-                         for v, delta, lo, hi in zip(p, step, lower, upper, strict=True)]
+                trial = [
+                    min(max(v + delta, lo), hi)
+                    for v, delta, lo, hi in zip(p, step, lower, upper, strict=True)
+                ]
                 trial_x, residual = _residual(t, d, trial)
                 trial_cost = float((residual * residual).sum())
                 if trial_cost < cost:
@@ -204,8 +210,10 @@ def _least_squares(
             if damping > _LAST_DAMPING:
                 return p, cost  # no step lowers the sum of squares: at the minimum
         damping = max(0.1 * damping, _LEAST_DAMPING)
-        small = all(abs(a - b) <= STEP_TOLERANCE * (abs(b) + s)
-                    for a, b, s in zip(trial, p, scales, strict=True))
+        small = all(
+            abs(a - b) <= STEP_TOLERANCE * (abs(b) + s)
+            for a, b, s in zip(trial, p, scales, strict=True)
+        )
         settled = cost - trial_cost <= COST_TOLERANCE * cost
         p, cost, x, rows[3] = trial, trial_cost, trial_x, residual
         if small or settled:
@@ -255,7 +263,9 @@ def _damped_step(
 
 
 def _initial_guess(
-    overshoot_pct: float | None, peak_time: float | None, rise_time: float | None,
+    overshoot_pct: float | None,
+    peak_time: float | None,
+    rise_time: float | None,
     span: float,
 ) -> tuple[float, float]:
     """(zeta, wn) from overshoot and peak time (Ogata ch. 5 / Nise ch. 4 relations),

@@ -48,33 +48,37 @@ def hunting_figures(
     """
     if len(values) < MIN_SAMPLES:
         reason = f"settled part too short ({len(values)} samples, {MIN_SAMPLES} needed)"
-        return {name: Figure(None, reason)
-                for name in ("hunting_pp", "hunting_freq_hz", "hunting_flag")}
+        return {
+            name: Figure(None, reason) for name in ("hunting_pp", "hunting_freq_hz", "hunting_flag")
+        }
     pp = float(values.max() - values.min())
     frequency, share, duration = _dominant_frequency(time, values)
     limit = fraction * band_width
     if frequency is None:
         freq = Figure(None, "no variation in the settled part")
     elif frequency * duration < min_cycles:
-        freq = Figure(None, f"no sustained oscillation: fewer than {min_cycles:g} periods "
-                            "in the settled part")
+        freq = Figure(
+            None, f"no sustained oscillation: fewer than {min_cycles:g} periods in the settled part"
+        )
     elif share < min_share:
-        freq = Figure(None, f"no sustained oscillation: the spectral peak holds "
-                            f"{100 * share:.0f} % of the variance (noise)")
+        freq = Figure(
+            None,
+            f"no sustained oscillation: the spectral peak holds "
+            f"{100 * share:.0f} % of the variance (noise)",
+        )
     else:
         freq = Figure(frequency)
     hunting = freq.value is not None and pp > limit
     return {
         "hunting_pp": Figure(pp),
         "hunting_freq_hz": freq,
-        "hunting_flag": Figure(1.0 if hunting else 0.0,
-                               f"limit {limit:.6g} (peak-to-peak of a sustained oscillation)"),
+        "hunting_flag": Figure(
+            1.0 if hunting else 0.0, f"limit {limit:.6g} (peak-to-peak of a sustained oscillation)"
+        ),
     }
 
 
-def _dominant_frequency(
-    time: np.ndarray, values: np.ndarray
-) -> tuple[float | None, float, float]:
+def _dominant_frequency(time: np.ndarray, values: np.ndarray) -> tuple[float | None, float, float]:
     """(peak frequency in Hz or None, its share of the variance, grid duration in s)."""
     dt = median(time[1:] - time[:-1])
     n = _fast_length(int((time[-1] - time[0]) / dt) + 1)

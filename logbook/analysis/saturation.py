@@ -61,11 +61,16 @@ def saturation_figures(
     held = float(np.sum(time[run_ends - 1] - time[run_starts]))
     after = feedback[run_ends[0] : end]
     if len(after) == 0 or amplitude == 0.0:
-        reason = ("the effort is saturated until the segment ends" if len(after) == 0
-                  else "no response: the final level equals the initial level")
-        return {"saturation_time_s": Figure(held),
-                "windup_overshoot_pct": Figure(None, reason),
-                "windup_flag": Figure(None, reason)}
+        reason = (
+            "the effort is saturated until the segment ends"
+            if len(after) == 0
+            else "no response: the final level equals the initial level"
+        )
+        return {
+            "saturation_time_s": Figure(held),
+            "windup_overshoot_pct": Figure(None, reason),
+            "windup_flag": Figure(None, reason),
+        }
     overshoot = max(0.0, float(np.max((after - final) * (1.0 / amplitude)))) * 100.0
     return {
         "saturation_time_s": Figure(held),

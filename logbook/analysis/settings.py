@@ -58,13 +58,16 @@ class AnalysisSettings:
 
     def __post_init__(self) -> None:
         if not 0.0 <= self.rise_low < self.rise_high <= 1.0:
-            raise ValueError("rise limits must satisfy 0 <= low < high <= 1, "
-                             f"got {self.rise_low}-{self.rise_high}")
+            raise ValueError(
+                "rise limits must satisfy 0 <= low < high <= 1, "
+                f"got {self.rise_low}-{self.rise_high}"
+            )
         if not 0.0 < self.band < 1.0:
             raise ValueError(f"settling band must be between 0 and 1, got {self.band}")
         if self.level_estimator != "tail-median":
-            raise ValueError(f"unknown level estimator {self.level_estimator!r}; "
-                             "the only one is 'tail-median'")
+            raise ValueError(
+                f"unknown level estimator {self.level_estimator!r}; the only one is 'tail-median'"
+            )
         if not 0.0 < self.level_window <= 0.5:
             raise ValueError(f"level window must be in (0, 0.5], got {self.level_window}")
         if not 0.0 <= self.step_tolerance < 1.0:
@@ -75,7 +78,8 @@ class AnalysisSettings:
             raise ValueError(f"hunting share must be in (0, 1], got {self.hunting_min_share}")
         if not 0.0 <= self.saturation_fraction < 1.0:
             raise ValueError(
-                f"saturation fraction must be in [0, 1), got {self.saturation_fraction}")
+                f"saturation fraction must be in [0, 1), got {self.saturation_fraction}"
+            )
         if self.effort_limit is not None and self.effort_limit <= 0.0:
             raise ValueError(f"effort limit must be positive, got {self.effort_limit}")
         if self.saturation_min_samples < 2 or self.fit_max_samples < 10:

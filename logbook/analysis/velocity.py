@@ -59,16 +59,18 @@ def default_window(t: np.ndarray, x: np.ndarray, *, resolution_pct: float = 1.0)
     duration = float(t[-1] - t[0])
     shortest = 2.0 * median(np.diff(t))
     widest = max(shortest, MAX_WINDOW_FRACTION * duration)
-    v_peak = float(np.abs(_windowed_difference(t, x, 0.5 * COARSE_WINDOW_FRACTION * duration))
-                   .max())
+    v_peak = float(
+        np.abs(_windowed_difference(t, x, 0.5 * COARSE_WINDOW_FRACTION * duration)).max()
+    )
     if v_peak == 0.0:
         return shortest
     steps = np.abs(np.diff(x))
     moving = steps[steps > 0.0]
     quantum = float(moving.min()) if len(moving) else 0.0
     second = np.diff(x, 2)
-    noise = 1.4826 * median(np.abs(second - median(second))) / np.sqrt(6.0) if (
-        len(second)) else 0.0
+    noise = (
+        1.4826 * median(np.abs(second - median(second))) / np.sqrt(6.0) if (len(second)) else 0.0
+    )
     resolution = max(quantum, noise)
     return float(np.clip(2.0 * resolution / (resolution_pct / 100.0 * v_peak), shortest, widest))
 

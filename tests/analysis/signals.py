@@ -19,21 +19,24 @@ def setpoint(t: np.ndarray, steps: list[tuple[float, float]], start: float = 0.0
     return sp
 
 
-def first_order(t: np.ndarray, t_step: float, tau: float, initial: float = 0.0,
-                final: float = 1.0) -> np.ndarray:
+def first_order(
+    t: np.ndarray, t_step: float, tau: float, initial: float = 0.0, final: float = 1.0
+) -> np.ndarray:
     """initial + (final - initial) * (1 - exp(-(t - t_step)/tau)) after t_step."""
     tau_since = np.maximum(t - t_step, 0.0)
     return initial + (final - initial) * (1.0 - np.exp(-tau_since / tau))
 
 
-def second_order(t: np.ndarray, t_step: float, zeta: float, wn: float, initial: float = 0.0,
-                 final: float = 1.0) -> np.ndarray:
+def second_order(
+    t: np.ndarray, t_step: float, zeta: float, wn: float, initial: float = 0.0, final: float = 1.0
+) -> np.ndarray:
     """initial + (final - initial) * g(t - t_step) for the standard second-order g."""
     return initial + (final - initial) * second_order_step(t - t_step, zeta, wn)
 
 
-def responses(t: np.ndarray, steps: list[tuple[float, float]], zeta: float, wn: float,
-              start: float = 0.0) -> np.ndarray:
+def responses(
+    t: np.ndarray, steps: list[tuple[float, float]], zeta: float, wn: float, start: float = 0.0
+) -> np.ndarray:
     """Response of a linear unity-gain second-order system to a staircase setpoint:
     the sum of one step response per setpoint change (superposition)."""
     y = np.full(len(t), start, dtype=float)

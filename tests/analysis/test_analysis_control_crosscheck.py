@@ -113,8 +113,9 @@ def test_each_step_of_a_multi_step_trace_agrees_with_step_info_on_its_segment():
         start_level = 0.0 if k == 0 else levels[k - 1]
         amplitude = levels[k] - start_level
         # python-control on the segment, shifted to start at 0 and scaled to a unit step.
-        theirs = control.step_info((y[seg] - start_level) / amplitude, t[seg] - t[seg][0],
-                                   yfinal=1.0)
+        theirs = control.step_info(
+            (y[seg] - start_level) / amplitude, t[seg] - t[seg][0], yfinal=1.0
+        )
         assert step.value("rise_time_s") == pytest.approx(theirs["RiseTime"], abs=DT)
         assert step.value("settling_time_s") == pytest.approx(theirs["SettlingTime"], abs=DT)
         assert step.value("overshoot_pct") == pytest.approx(theirs["Overshoot"], abs=1e-4)

@@ -23,8 +23,9 @@ T_STEP = 0.1
 
 def _analyse(dt: float, settings: AnalysisSettings = DEFAULTS):
     t = np.arange(0.0, T_STEP + 20 * TAU, dt)
-    result = analyze_arrays(t, setpoint(t, [(T_STEP, 1.0)]), first_order(t, T_STEP, TAU),
-                            settings=settings)
+    result = analyze_arrays(
+        t, setpoint(t, [(T_STEP, 1.0)]), first_order(t, T_STEP, TAU), settings=settings
+    )
     (step,) = result.steps
     return step
 

@@ -22,8 +22,9 @@ def test_closed_form_matches_python_control(zeta):
     wn = 20.0
     t = np.linspace(0.0, 3.0, 3001)
     simulated = control.step_response(control.tf([wn**2], [1.0, 2 * zeta * wn, wn**2]), t)
-    np.testing.assert_allclose(second_order_step(t, zeta, wn),
-                               np.asarray(simulated.outputs), atol=1e-9)
+    np.testing.assert_allclose(
+        second_order_step(t, zeta, wn), np.asarray(simulated.outputs), atol=1e-9
+    )
 
 
 @pytest.mark.parametrize("zeta", [0.2, 0.9, 1.0 - 1e-9, 1.0, 1.0 + 1e-5, 1.7, 9.0])
@@ -34,11 +35,15 @@ def test_derivatives_match_central_differences(zeta):
     slope, by_zeta = _derivatives(x, zeta)
     h = 1e-6
     np.testing.assert_allclose(
-        slope, (second_order_step(x + h, zeta, 1.0) - second_order_step(x - h, zeta, 1.0))
-        / (2 * h), atol=1e-8)
+        slope,
+        (second_order_step(x + h, zeta, 1.0) - second_order_step(x - h, zeta, 1.0)) / (2 * h),
+        atol=1e-8,
+    )
     np.testing.assert_allclose(
-        by_zeta, (second_order_step(x, zeta + h, 1.0) - second_order_step(x, zeta - h, 1.0))
-        / (2 * h), atol=1e-7)
+        by_zeta,
+        (second_order_step(x, zeta + h, 1.0) - second_order_step(x, zeta - h, 1.0)) / (2 * h),
+        atol=1e-7,
+    )
 
 
 def _fit(y, t):
@@ -46,8 +51,9 @@ def _fit(y, t):
     return step
 
 
-@pytest.mark.parametrize(("zeta", "wn", "delay"), [(0.25, 80.0, 0.0), (0.6, 40.0, 0.01234),
-                                                   (1.6, 30.0, 0.0051)])
+@pytest.mark.parametrize(
+    ("zeta", "wn", "delay"), [(0.25, 80.0, 0.0), (0.6, 40.0, 0.01234), (1.6, 30.0, 0.0051)]
+)
 def test_recovers_exact_parameters(zeta, wn, delay):
     t = np.arange(0.0, T_STEP + 40 / min(zeta * wn, wn / (2 * zeta)), DT)
     step = _fit(second_order(t, T_STEP + delay, zeta, wn), t)
@@ -92,12 +98,15 @@ def _simulated(t, zeta, wn, delay, response=control.step_response):
     system = control.tf([wn**2], [1.0, 2 * zeta * wn, wn**2])
     tau = t - T_STEP - delay
     grid = np.arange(0.0, tau[-1] + DT, DT)
-    return np.where(tau >= 0.0, np.interp(tau, grid, np.asarray(response(system, grid).outputs)),
-                    0.0)
+    return np.where(
+        tau >= 0.0, np.interp(tau, grid, np.asarray(response(system, grid).outputs)), 0.0
+    )
 
 
-@pytest.mark.parametrize(("zeta", "wn", "delay", "seed"),
-                         [(0.3, 60.0, 0.005, 1), (0.7, 40.0, 0.012, 2), (1.5, 80.0, 0.003, 3)])
+@pytest.mark.parametrize(
+    ("zeta", "wn", "delay", "seed"),
+    [(0.3, 60.0, 0.005, 1), (0.7, 40.0, 0.012, 2), (1.5, 80.0, 0.003, 3)],
+)
 def test_recovers_zeta_wn_and_delay_of_a_noisy_simulation(zeta, wn, delay, seed):
     # Noise of 0.2 % of the step on python-control's response. The tolerance is four
     # standard errors of the least-squares estimate, from its linearised covariance
@@ -113,13 +122,21 @@ def test_recovers_zeta_wn_and_delay_of_a_noisy_simulation(zeta, wn, delay, seed)
     count = int(np.sum(t[first:] <= T_STEP + 2 * step.value("settling_time_s")))
     k = np.arange(first, first + count, -(-count // 500))
     h = 1e-5
-    jacobian = np.column_stack((
-        (_simulated(t[k], zeta * (1 + h), wn, delay)
-         - _simulated(t[k], zeta * (1 - h), wn, delay)) / (2 * h * zeta),
-        (_simulated(t[k], zeta, wn * (1 + h), delay)
-         - _simulated(t[k], zeta, wn * (1 - h), delay)) / (2 * h * wn),
-        -_simulated(t[k], zeta, wn, delay, control.impulse_response),  # d/d(delay)
-    ))
+    jacobian = np.column_stack(
+        (
+            (
+                _simulated(t[k], zeta * (1 + h), wn, delay)
+                - _simulated(t[k], zeta * (1 - h), wn, delay)
+            )
+            / (2 * h * zeta),
+            (
+                _simulated(t[k], zeta, wn * (1 + h), delay)
+                - _simulated(t[k], zeta, wn * (1 - h), delay)
+            )
+            / (2 * h * wn),
+            -_simulated(t[k], zeta, wn, delay, control.impulse_response),  # d/d(delay)
+        )
+    )
     se_zeta, se_wn, se_delay = sigma * np.sqrt(np.diag(np.linalg.inv(jacobian.T @ jacobian)))
     assert se_zeta < 0.01 * zeta and se_wn < 0.01 * wn and se_delay < DT  # a tight check
     assert step.value("zeta") == pytest.approx(zeta, abs=4 * se_zeta)

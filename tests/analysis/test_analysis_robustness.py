@@ -57,14 +57,16 @@ def test_gaussian_noise_second_order():
     y = second_order(t, T_STEP, zeta, wn) + rng.normal(0, SIGMA, len(t))
     (step,) = analyze_arrays(t, setpoint(t, [(T_STEP, 1.0)]), y).steps
     # The largest noisy sample exceeds the true peak by at most K sigma.
-    assert step.value("overshoot_pct") == pytest.approx(_ogata_overshoot_pct(zeta),
-                                                        abs=100 * K * SIGMA)
+    assert step.value("overshoot_pct") == pytest.approx(
+        _ogata_overshoot_pct(zeta), abs=100 * K * SIGMA
+    )
     # Near the peak y = ymax - |y''| d^2 / 2 with |y''| = wn^2 * Mp: noise can make any
     # sample within 2 K sigma of the top the largest, i.e. within sqrt(4 K sigma/|y''|).
     curvature = wn**2 * _ogata_overshoot_pct(zeta) / 100
     tp = math.pi / (wn * math.sqrt(1 - zeta**2))
     assert step.value("peak_time_s") == pytest.approx(
-        tp, abs=math.sqrt(4 * K * SIGMA / curvature) + 1e-4)
+        tp, abs=math.sqrt(4 * K * SIGMA / curvature) + 1e-4
+    )
 
 
 def test_encoder_quantisation():
@@ -105,8 +107,9 @@ def test_negative_step_with_offset_and_late_time_origin():
     y = second_order(t, t0 + T_STEP, zeta, wn, initial=5.0, final=3.0)
     (down,) = analyze_arrays(t, setpoint(t, [(t0 + T_STEP, 3.0)], start=5.0), y).steps
     up_t = np.arange(0.0, 1.5, 1e-4)
-    (up,) = analyze_arrays(up_t, setpoint(up_t, [(T_STEP, 1.0)]),
-                           second_order(up_t, T_STEP, zeta, wn)).steps
+    (up,) = analyze_arrays(
+        up_t, setpoint(up_t, [(T_STEP, 1.0)]), second_order(up_t, T_STEP, zeta, wn)
+    ).steps
     assert down.value("amplitude") == pytest.approx(-2.0, abs=1e-9)
     assert down.value("t_step_s") == pytest.approx(t0 + T_STEP, abs=1e-4)
     assert down.value("overshoot_pct") == pytest.approx(_ogata_overshoot_pct(zeta), rel=1e-4)
@@ -126,10 +129,10 @@ def test_multi_step_trace_up_and_down():
     for step, (_, target), start in zip(steps, plan, starts, strict=True):
         assert step.value("initial") == pytest.approx(start, abs=1e-9)
         assert step.value("final") == pytest.approx(target, abs=1e-9)
-        assert step.value("overshoot_pct") == pytest.approx(_ogata_overshoot_pct(zeta),
-                                                            rel=1e-4)
+        assert step.value("overshoot_pct") == pytest.approx(_ogata_overshoot_pct(zeta), rel=1e-4)
         assert step.value("peak_time_s") == pytest.approx(
-            math.pi / (wn * math.sqrt(1 - zeta**2)), abs=1e-4)
+            math.pi / (wn * math.sqrt(1 - zeta**2)), abs=1e-4
+        )
 
 
 def test_sustained_oscillation_never_settles():

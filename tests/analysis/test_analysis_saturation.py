@@ -65,8 +65,9 @@ def test_saturation_time_equals_the_simulated_clipping_with_a_known_limit():
     t, sp, y, u, clipped = _pi_loop(anti_windup=False)
     settings = AnalysisSettings(effort_limit=U_MAX, saturation_fraction=0.0)
     (step,) = analyze_arrays(t, sp, y, u, settings=settings).steps
-    assert step.value("saturation_time_s") == pytest.approx(_clipped_duration(t, clipped),
-                                                            abs=1e-12)
+    assert step.value("saturation_time_s") == pytest.approx(
+        _clipped_duration(t, clipped), abs=1e-12
+    )
 
 
 def test_inferred_limit_counts_the_same_interval_within_a_few_samples():
@@ -74,8 +75,9 @@ def test_inferred_limit_counts_the_same_interval_within_a_few_samples():
     # output approaching or leaving the limit adds at most a few samples.
     t, sp, y, u, clipped = _pi_loop(anti_windup=False)
     (step,) = analyze_arrays(t, sp, y, u).steps
-    assert step.value("saturation_time_s") == pytest.approx(_clipped_duration(t, clipped),
-                                                            abs=3 * DT)
+    assert step.value("saturation_time_s") == pytest.approx(
+        _clipped_duration(t, clipped), abs=3 * DT
+    )
 
 
 def test_unsaturated_effort_and_missing_effort():
