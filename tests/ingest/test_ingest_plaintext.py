@@ -156,6 +156,16 @@ def test_misuse_is_a_python_error() -> None:
         parse_columns(b"1\n", 0, ",", ".", [np.empty(4)[::2]])
 
 
+@settings(max_examples=500, deadline=None)
+@given(st.binary(max_size=200), st.integers(1, 4), st.integers(0, 8))
+def test_any_bytes_give_a_row_count_or_none(data: bytes, columns: int, rows: int) -> None:
+    buffers = [np.full(rows, np.nan) for _ in range(columns)]
+    got = parse_columns(data, 0, ",", ".", buffers)
+    assert got is None or 0 <= got <= rows
+    if got:  # every value it reports is a finite number it read
+        assert all(np.isfinite(b[:got]).all() for b in buffers)
+
+
 # --- the reader reads a file the same whichever parser takes it ---------------------
 
 CELLS = st.one_of(
