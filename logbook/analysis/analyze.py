@@ -105,8 +105,9 @@ def _transients(
 def steps_transient_figures(
     time: np.ndarray, feedback: np.ndarray, steps: tuple[Step, ...], *, settings: AnalysisSettings
 ) -> list[dict[str, Figure]]:
-    """The transient figures of ``steps`` (at least one) of arrays already checked:
-    each step's initial level is the one before it settled to."""
+    """The transient figures of ``steps`` (at least one) of arrays already checked.
+    A step's initial level is the final level of the step before it (for the first
+    step, the level of the samples before it)."""
     window = settings.level_window
     figures = []
     initial = tail_median(time, feedback, 0, steps[0].start, window=window)
