@@ -59,22 +59,25 @@ def test_installed_wheel_creates_a_database_and_the_demo(tmp_path: Path) -> None
     )
     elsewhere = tmp_path / "elsewhere"
     elsewhere.mkdir()
-    where = subprocess.run(
-        [str(python), "-c", "import logbook.store.migrate as m; print(m.migrations_dir())"],
-        cwd=elsewhere,
-        capture_output=True,
-        text=True,
-        check=True,
-    ).stdout.strip()
-    assert str(venv) in where, f"migrations came from {where}, not the installed wheel"
-    native = subprocess.run(
-        [str(python), "-c", "import logbook_plaintext as m; print(m.__file__)"],
+    found = subprocess.run(
+        [
+            str(python),
+            "-c",
+            "import logbook.store.migrate as m; print(m.migrations_dir());"
+            "import logbook_plaintext as p; print(p.__file__)",
+        ],
         cwd=elsewhere,
         capture_output=True,
         text=True,
         check=False,
     )
-    assert str(venv) in native.stdout, f"the compiled reader is not in the wheel: {native.stderr}"
+    printed = found.stdout.split()
+    assert printed, found.stderr
+    where, *native = printed
+    assert str(venv) in where, f"migrations came from {where}, not the installed wheel"
+    assert native and str(venv) in native[0], (
+        f"the compiled reader is not in the wheel: {found.stderr}"
+    )
     result = subprocess.run(
         [str(venv / "bin" / "logbook"), "init", "--db", "wheel.db"],
         cwd=elsewhere,
