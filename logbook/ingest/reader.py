@@ -159,7 +159,8 @@ def _read_text(
     path: str, delimiter: str | None, decimal: str | None, raw: bytes | None
 ) -> RawTable:
     """The text table of ``path`` (or of its bytes ``raw``). The data rows are
-    ``body[start:]``: the file's bytes after the header, never copied."""
+    ``body[start:]``: the file's bytes after the header, not copied (unless blank
+    lines at the end hold spaces or tabs: then the bytes up to them)."""
     if raw is None:
         with open(path, "rb") as fh:
             layout = _read_layout(fh, path, delimiter, decimal)
@@ -170,7 +171,9 @@ def _read_text(
         with io.BytesIO(raw) as fh:  # shares raw's buffer
             layout = _read_layout(fh, path, delimiter, decimal)
         body, start = raw, layout.data_offset
-    lines = _count_data_lines(body, start)
+    lines, end = _data_extent(body, start)
+    if body[end:].strip(b"\r\n"):  # spaces or tabs in the blank lines at the end
+        body = body[:end]  # (a parser would take a tab there for empty cells)
     columns = _parse_plain(body, start, layout, lines)
     if columns is None:
         columns = _parse_general(body, start, path, layout, lines)
@@ -286,7 +289,9 @@ def _parse_general(
         raise InputError("no data rows after the header", file=path, line=first_data_line) from None
     except (ValueError, UnicodeDecodeError, pd.errors.ParserWarning) as exc:
         _diagnose(body, start, path, layout)
-        raise InputError(f"cannot be read as a table of numbers ({exc})", file=path) from exc
+        raise InputError(
+            f"cannot be read as a table of numbers ({_one_line(exc)})", file=path
+        ) from exc
     if len(frame) == 0:
         raise InputError("no data rows after the header", file=path, line=first_data_line)
     if len(frame) != lines:
@@ -399,7 +404,7 @@ def _split(line: str, delimiter: str) -> list[str]:
     try:
         return [field.strip() for field in next(csv.reader([line], delimiter=delimiter))]
     except csv.Error as exc:  # _decode rules out the known causes; kept as a safety net
-        raise InputError(f"cannot split a line into fields ({exc})") from exc
+        raise InputError(f"cannot split a line into fields ({_one_line(exc)})") from exc
 
 
 def _field_count(line: str, delimiter: str) -> int:
@@ -464,17 +469,18 @@ def _check_names(names: list[str], path: str, line: int | None) -> None:
         seen.add(name)
 
 
-def _count_data_lines(body: bytes, start: int, *, block: int = 4096) -> int:
-    """Physical lines of ``body[start:]`` (the bytes after the header), trailing blank
-    lines not counted."""
+def _data_extent(body: bytes, start: int, *, block: int = 4096) -> tuple[int, int]:
+    """(data lines, end) of ``body[start:]`` (the bytes after the header): its
+    physical lines up to the last one with content, and the offset just past that
+    content. Blank lines after it (spaces, tabs, line ends) are not data."""
     end = len(body)
     while end > start:  # find the end of the last line with content, a block at a time
         first = max(start, end - block)
         kept = len(body[first:end].rstrip(b" \t\r\n"))
         if kept:
-            return _count_newlines(body, start, first + kept) + 1
+            return _count_newlines(body, start, first + kept) + 1, first + kept
         end = first
-    return 0
+    return 0, start
 
 
 def _count_newlines(body: bytes, start: int, stop: int, *, block: int = 1 << 20) -> int:
@@ -485,6 +491,11 @@ def _count_newlines(body: bytes, start: int, stop: int, *, block: int = 1 << 20)
         text = np.frombuffer(body, np.uint8, min(block, stop - first), first)
         count += int(np.count_nonzero(text == 10))
     return count
+
+
+def _one_line(exc: Exception) -> str:
+    """A library's error message on one line (pandas' may end in a line break)."""
+    return " ".join(str(exc).split())
 
 
 def _from(body: bytes, start: int) -> io.BytesIO:
@@ -509,6 +520,8 @@ def _diagnose(body: bytes, start: int, path: str, layout: _Layout) -> None:
                 continue
             if blank_line is not None:
                 raise InputError("blank line inside the data", file=path, line=blank_line)
+            if text.count('"') % 2:
+                raise InputError("unbalanced quote", file=path, line=line_no)
             fields = _split(text, layout.delimiter)
             if len(fields) < width:
                 raise InputError(
@@ -558,7 +571,7 @@ def _read_parquet(path: str, raw: bytes | None) -> RawTable:
     try:
         table = pq.read_table(path if raw is None else pa.BufferReader(raw))
     except (pa.ArrowException, ValueError) as exc:
-        raise InputError(f"not a readable Parquet file ({exc})", file=path) from exc
+        raise InputError(f"not a readable Parquet file ({_one_line(exc)})", file=path) from exc
     if table.num_columns == 0 or table.num_rows == 0:
         raise InputError("the Parquet file holds no data", file=path)
     names = [str(n).strip() for n in table.column_names]

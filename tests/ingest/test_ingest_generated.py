@@ -136,7 +136,7 @@ def test_text_soup_ends_as_trace_or_input_error(text: str) -> None:
         path = Path(tmp) / "soup.csv"
         path.write_bytes(text.encode("utf-8"))
         result = outcome(path)
-        assert isinstance(result, Trace) or result.file == str(path)
+        assert isinstance(result, Trace) or (result.file == str(path) and "\n" not in str(result))
 
 
 @settings(max_examples=50, deadline=None)

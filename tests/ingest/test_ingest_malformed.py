@@ -40,6 +40,7 @@ CASES: dict[str, tuple[int | None, str | None, str]] = {
     "too_many_fields.csv": (3, None, "too many fields: 4, the header has 3"),
     "empty_cell.csv": (4, "setpoint [mm]", "empty cell"),
     "blank_line_inside.csv": (4, None, "blank line inside the data"),
+    "unbalanced_quote.csv": (3, None, "unbalanced quote"),
     "bare_carriage_return.csv": (3, None, "carriage return inside a line"),
     "infinite_value.csv": (4, "position [mm]", "absurd value inf"),
     "absurd_magnitude.csv": (4, "position [mm]", "absurd value 3500000000000000.0"),

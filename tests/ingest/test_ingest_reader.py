@@ -70,6 +70,12 @@ def test_crlf_and_trailing_blank_lines_are_accepted() -> None:
     np.testing.assert_array_equal(table.columns["position [mm]"], [0.0, 0.5, 1.5])
 
 
+def test_blank_lines_at_the_end_may_hold_spaces_and_tabs() -> None:
+    # A tab there is not a row of empty cells: the lines after the last row are blank.
+    table = read_table(GOOD / "tab_separated_blank_tail.tsv")
+    np.testing.assert_array_equal(table.columns["position [mm]"], [0.0, 0.4, 0.9])
+
+
 def test_last_row_without_newline_is_read() -> None:
     assert len(read_table(GOOD / "no_final_newline.csv")) == 3
 
