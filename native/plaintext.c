@@ -44,6 +44,38 @@ static const double POWERS_OF_TEN[MAX_EXACT_POWER + 1] = {
 
 static inline int is_digit(char c) { return (unsigned char)(c - '0') < 10; }
 
+/* Skip the zeros at *p; return how many there were. */
+static inline Py_ssize_t skip_zeros(const char **p, const char *end)
+{
+    const char *q = *p;
+    while (q < end && *q == '0') q++;
+    Py_ssize_t skipped = q - *p;
+    *p = q;
+    return skipped;
+}
+
+/*
+ * Append the digits at *p to *mantissa, counting them in *digits; return how many
+ * there were. Past MAX_DIGITS the mantissa wraps around: the caller then declines.
+ */
+static inline Py_ssize_t take_digits(const char **p, const char *end, uint64_t *mantissa,
+                                     Py_ssize_t *digits)
+{
+    /* Locals, not the pointers: a char may alias them, so they would be stored back
+       at every digit. */
+    const char *q = *p;
+    uint64_t m = *mantissa;
+    while (q < end && is_digit(*q)) {
+        m = m * 10 + (uint64_t)(*q - '0');
+        q++;
+    }
+    Py_ssize_t taken = q - *p;
+    *p = q;
+    *mantissa = m;
+    *digits += taken;
+    return taken;
+}
+
 /*
  * Parse one cell starting at p (p <= end). On success store its value in *out and
  * return the first byte after it; return NULL when the cell is not plain or not
@@ -57,41 +89,22 @@ static inline const char *parse_cell(const char *p, const char *end, char mark, 
         p++;
     }
     uint64_t mantissa = 0;
-    int digits = 0;          /* significant digits accumulated */
-    int fraction_digits = 0; /* digits after the mark, leading zeros included */
-    int seen_digit = 0;
-    while (p < end && *p == '0') { /* leading zeros carry no significance */
-        p++;
-        seen_digit = 1;
-    }
-    while (p < end && is_digit(*p)) {
-        if (++digits > MAX_DIGITS) return NULL;
-        mantissa = mantissa * 10 + (uint64_t)(*p - '0');
-        p++;
-        seen_digit = 1;
-    }
+    Py_ssize_t digits = 0; /* significant digits */
+    Py_ssize_t leading = skip_zeros(&p, end); /* leading zeros carry no significance */
+    int seen_digit = leading + take_digits(&p, end, &mantissa, &digits) > 0;
+    Py_ssize_t fraction_digits = 0; /* digits after the mark, leading zeros included */
     if (p < end && *p == mark) {
         p++;
-        if (digits == 0) {
-            while (p < end && *p == '0') {
-                p++;
-                fraction_digits++;
-                seen_digit = 1;
-            }
-        }
-        while (p < end && is_digit(*p)) {
-            if (++digits > MAX_DIGITS) return NULL;
-            mantissa = mantissa * 10 + (uint64_t)(*p - '0');
-            p++;
-            fraction_digits++;
-            seen_digit = 1;
-        }
+        if (digits == 0) fraction_digits = skip_zeros(&p, end);
+        fraction_digits += take_digits(&p, end, &mantissa, &digits);
+        seen_digit |= fraction_digits > 0;
     }
-    if (!seen_digit) return NULL;
-    int exponent = -fraction_digits;
+    if (!seen_digit || digits > MAX_DIGITS) return NULL;
+    Py_ssize_t exponent = -fraction_digits;
     if (p < end && (*p == 'e' || *p == 'E')) {
         p++;
-        int exponent_negative = 0, value = 0, exponent_digits = 0;
+        int exponent_negative = 0;
+        Py_ssize_t value = 0, exponent_digits = 0;
         if (p < end && (*p == '-' || *p == '+')) {
             exponent_negative = (*p == '-');
             p++;
