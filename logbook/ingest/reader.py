@@ -196,18 +196,17 @@ def _parse_plain(
         body, start, layout.delimiter, layout.decimal, list(columns.values())
     ):
         return columns  # its grammar admits finite numbers only
-    return _parse_plain_pyarrow(body, start, layout, columns)
+    return _parse_plain_pyarrow(body, start, layout, lines, columns)
 
 
 def _parse_plain_pyarrow(
-    body: bytes, start: int, layout: _Layout, columns: dict[str, np.ndarray]
+    body: bytes, start: int, layout: _Layout, lines: int, columns: dict[str, np.ndarray]
 ) -> dict[str, np.ndarray] | None:
     """:func:`_parse_plain` by pyarrow's CSV reader, into ``columns`` (one array of
-    the file's data-line count per name)."""
+    ``lines`` values per name)."""
     import pyarrow as pa  # here: `logbook analyze` seldom needs it, and it is slow to import
     import pyarrow.csv as pa_csv
 
-    lines = len(next(iter(columns.values())))
     options = {
         "read_options": pa_csv.ReadOptions(column_names=layout.names, use_threads=False),
         "parse_options": pa_csv.ParseOptions(
